@@ -1,0 +1,29 @@
+# memix: the two entry points of the README are `make demo` and `make test`.
+GO      ?= go
+BIN     := bin/memix
+DEMO    ?= examples/demo.yaml
+DEMOOUT ?= demo-out
+
+.PHONY: setup build demo test test-slurm bench clean
+
+setup:
+	scripts/setup.sh
+
+build: setup
+	$(GO) build -o $(BIN) ./cmd/memix
+
+demo: build
+	scripts/demo.sh $(BIN) $(DEMO) $(DEMOOUT)
+
+# The whole suite: vet, every package with the default (FFTW) backend, the
+# transform package again with the pure-Go backend only.
+test: setup
+	$(GO) vet ./...
+	$(GO) test -timeout 60m ./...
+	$(GO) test -timeout 10m -tags nofftw ./spectral/...
+
+bench: setup
+	$(GO) test -run '^$$' -bench . -benchtime 2s ./...
+
+clean:
+	rm -rf bin $(DEMOOUT)

@@ -1,0 +1,5 @@
+//go:build !cgo || nofftw
+
+package spectral
+
+const defaultBackend = Gonum
