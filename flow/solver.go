@@ -1,0 +1,89 @@
+package flow
+
+import (
+	"fmt"
+	"math"
+
+	"github.com/memix-sim/memix/spectral"
+)
+
+// Solver solves the membrane flow for uniform membrane viscosity on a
+// periodic grid: û(k) = P(k) f̂(k)/D(k). It precomputes 1/D(k) once; Solve
+// allocates nothing. A Solver is read-only after construction and may be
+// shared between goroutines.
+type Solver struct {
+	g    *spectral.Grid
+	m    Membrane
+	invD []float64 // 1/D(|k|) per spectral index; at k = 0, 1/D(0) or 0 if D(0) = 0
+}
+
+// NewSolver returns the solver for membrane m on grid g. It returns an
+// error if m is invalid.
+func NewSolver(g *spectral.Grid, m Membrane) (*Solver, error) {
+	if err := m.Validate(); err != nil {
+		return nil, err
+	}
+	s := &Solver{g: g, m: m, invD: make([]float64, g.SpecLen())}
+	k2 := g.K2()
+	for idx := range s.invD {
+		d := m.D(math.Sqrt(k2[idx]))
+		if d > 0 {
+			s.invD[idx] = 1 / d
+		}
+	}
+	if !(s.invD[0] >= 0) {
+		return nil, fmt.Errorf("flow: D(0) = %g is not usable", m.D0())
+	}
+	return s, nil
+}
+
+// Grid returns the solver's grid.
+func (s *Solver) Grid() *spectral.Grid { return s.g }
+
+// Membrane returns the membrane the solver was made for.
+func (s *Solver) Membrane() Membrane { return s.m }
+
+// InvD returns 1/D(k) per spectral index (0 where D = 0). The slice is
+// shared and must not be modified.
+func (s *Solver) InvD() []float64 { return s.invD }
+
+// Solve sets (ux, uy) to the velocity coefficients driven by the force
+// density coefficients (fx, fy): û = P f̂/D for k ≠ 0. The k = 0 mode is
+// not projected (a uniform flow is divergence-free): û(0) = f̂(0)/D(0)
+// when D(0) > 0 (wall or friction), and 0 when D(0) = 0, where nothing
+// resists uniform translation and the net force of an active stress
+// vanishes anyway. The Nyquist row and column are set to zero: a real
+// Nyquist mode stands for both signs of its wavenumber, for which the
+// projector's kx·ky term differs. ux may alias fx and uy may alias fy.
+// Lengths must match the grid.
+func (s *Solver) Solve(ux, uy, fx, fy []complex128) {
+	n := s.g.SpecLen()
+	if len(ux) != n || len(uy) != n || len(fx) != n || len(fy) != n {
+		panic(fmt.Sprintf("flow: Solve lengths %d, %d, %d, %d, want %d", len(ux), len(uy), len(fx), len(fy), n))
+	}
+	kx, ky := s.g.Kx(), s.g.Ky()
+	nk := s.g.Nkx()
+	k2 := s.g.K2()
+	ux[0], uy[0] = fx[0]*complex(s.invD[0], 0), fy[0]*complex(s.invD[0], 0)
+	for j := 0; j < s.g.Ny; j++ {
+		row := j * nk
+		qy := ky[j]
+		for i := 0; i < nk; i++ {
+			idx := row + i
+			if idx == 0 {
+				continue
+			}
+			if i == nk-1 || j == s.g.Ny/2 {
+				ux[idx], uy[idx] = 0, 0
+				continue
+			}
+			qx := kx[i]
+			a, b := fx[idx], fy[idx]
+			// P f = f − k̂ (k̂·f), scaled by 1/(k² D).
+			inv := s.invD[idx] / k2[idx]
+			kdotf := complex(qx, 0)*a + complex(qy, 0)*b
+			ux[idx] = (a*complex(k2[idx], 0) - complex(qx, 0)*kdotf) * complex(inv, 0)
+			uy[idx] = (b*complex(k2[idx], 0) - complex(qy, 0)*kdotf) * complex(inv, 0)
+		}
+	}
+}
