@@ -2,8 +2,8 @@ package spectral_test
 
 import (
 	"fmt"
-	"testing"
 	"os"
+	"testing"
 	"time"
 
 	"github.com/memix-sim/memix/spectral"

@@ -74,9 +74,9 @@ var fftwMu sync.Mutex
 const rowBlock = 16
 
 type fftwMem struct {
-	rowFwd, rowFwdLast C.fftw_plan   // r2c of rowBlock rows; of the last, partial block
-	rowInv, rowInvLast C.fftw_plan   // c2r of the same blocks
-	colFwd, colInv     []C.fftw_plan // per worker: its columns, in place
+	rowFwd, rowFwdLast C.fftw_plan     // r2c of rowBlock rows; of the last, partial block
+	rowInv, rowInvLast C.fftw_plan     // c2r of the same blocks
+	colFwd, colInv     []C.fftw_plan   // per worker: its columns, in place
 	rbuf               *C.double       // real planning array; fallback for unaligned arrays
 	cbuf               *C.fftw_complex // spectral planning array; fallback
 	cwork              *C.fftw_complex // scratch of the inverse transform
