@@ -67,7 +67,10 @@ func (m mode) k(g *spectral.Grid) (kx, ky float64) {
 // TestNormsOfModes checks every norm of single modes and sums of modes with
 // distinct wavevectors against the closed form: a mode A cos(k·x + c) has
 // ⟨φ²⟩ = A²/2 and each norm is (A/√2)·√w(k) (MODEL.md §4: variance norm
-// A/√2, H⁻¹ norm A/(√2 k), H^{−1/2} norm A/(√2√k)); modes with distinct
+// A/√2, H⁻¹ norm A/(√2 k) with the weight of Lin, Thiffeault & Doering,
+// J. Fluid Mech. 675, 465 (2011), H^{−1/2} norm A/(√2√k) with that of
+// Thiffeault, Nonlinearity 25, R1 (2012); the values follow from
+// Parseval's identity [derived]); modes with distinct
 // |k|-vectors are orthogonal, so squared norms add. A constant offset must
 // not change anything (the norms see the mean-free part). Square and
 // rectangular boxes, modes along x, y, oblique, and at the dealiasing edge.

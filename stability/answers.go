@@ -56,7 +56,7 @@ func scan(rate func(float64) float64, kMin, kMax float64) (ks, ss []float64, err
 // a scan at ScanPoints log-spaced wavenumbers, then golden-section search in
 // ln k between the neighbours of the best scan point. Near a smooth maximum
 // s(k) is flat to second order, so K is resolved to about
-// sqrt(ε·|s|/|s”|)/K relative (≈ 10⁻⁸) and Rate to round-off. It returns
+// sqrt(ε·|s|/|s″|)/K relative (≈ 10⁻⁸) and Rate to round-off. It returns
 // an error for a bad interval or a NaN rate.
 func Fastest(rate func(float64) float64, kMin, kMax float64) (Peak, error) {
 	if err := checkInterval(kMin, kMax); err != nil {

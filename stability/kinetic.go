@@ -204,7 +204,11 @@ func (o *Kinetic) values(dst []complex128, a *mat.Dense) {
 }
 
 // Rate returns the leading growth rate at wavenumber k: the largest real
-// part of the odd sector's eigenvalues, the only sector that can grow.
+// part of the odd sector's eigenvalues, the only sector that can grow. At
+// V₀ = 0 it is max(s_act, −D_r − D_tk²): where the active mode decays
+// faster than the n = 1 mode, the latter leads. To search a wavenumber
+// interval (Fastest, UnstableBands, CriticalStress) use a truncation that
+// Rates found converged on that interval.
 func (o *Kinetic) Rate(k float64) float64 { return o.rate(o.p.Stress, k) }
 
 func (o *Kinetic) rate(stress, k float64) float64 {

@@ -173,9 +173,9 @@ func curvature(rate func(float64) float64, k float64) float64 {
 //
 // Tolerances: s_act is one formula evaluated twice, ε·scale round-off on
 // each side (4ε·scale allowed). A maximum at K is flat, so each side
-// resolves K only to δ = sqrt(2ε·scale/|k²s”|) relative (golden section
+// resolves K only to δ = sqrt(2ε·scale/|k²s″|) relative (golden section
 // here, SciPy's bounded Brent there); 10δ is allowed for K, and 8ε·scale
-// for the rate there (s”δ²/2 = ε·scale per side). Band edges are simple
+// for the rate there (s″δ²/2 = ε·scale per side). Band edges are simple
 // roots bisected to round-off on both sides: ε·scale/|k s'| relative,
 // times 16. The critical activity σ_c = −4 min g/β is a minimum value, so
 // the flatness of g costs nothing: SciPy's min g carries ε-level error and

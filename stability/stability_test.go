@@ -236,7 +236,7 @@ func cardanoRoot(a, b, d float64) float64 {
 // The closed form, kinetic (V₀ = 0, M = 4) and moment routes must all
 // agree. The root is polished to 10⁻¹² relative and each evaluation of
 // the peak rate carries ε-level error, so 4×10⁻¹² relative is allowed;
-// the first unstable k is resolved to δ = sqrt(2ε·g/|k²g”|) (flat minimum),
+// the first unstable k is resolved to δ = sqrt(2ε·g/|k²g″|) (flat minimum),
 // 10δ allowed.
 func TestCriticalStressClosedForms(t *testing.T) {
 	const kMin, kMax = 1e-3, 1e3
@@ -302,7 +302,8 @@ func TestCriticalStressClosedForms(t *testing.T) {
 	}
 }
 
-// TestCahnHilliard checks s(k) = −Mk²(3φ₀² − 1 + ε²k²) against a direct
+// TestCahnHilliard checks s(k) = −Mk²(3φ₀² − 1 + ε²k²) [Cahn & Hilliard,
+// J. Chem. Phys. 28, 258 (1958), in MODEL.md §3's reduced form] against a direct
 // evaluation of the nonlinear right-hand side M∇²(φ³ − φ − ε²∇²φ) with
 // memix's spectral operators, for φ = φ₀ ± δ cos(kx): the cos(kx)
 // coefficient of the central difference [R(δ) − R(−δ)]/(2δ) is exactly
@@ -363,7 +364,7 @@ func TestCahnHilliard(t *testing.T) {
 		t.Fatal(err)
 	}
 	sStar := ch.Mobility * a * a / (4 * ch.Width * ch.Width)
-	// s(k*) − s(k) ≈ ½|s''|(k − k*)², s'' = −4Ma at k*: δ = sqrt(2ε·s*/(4Ma k*²)).
+	// s(k*) − s(k) ≈ ½|s″|(k − k*)², s″ = −4Ma at k*: δ = sqrt(2ε·s*/(4Ma k*²)).
 	kd := math.Sqrt(2 * eps * sStar / (4 * ch.Mobility * a * kStar * kStar))
 	if rel := math.Abs(pk.K-kStar) / kStar; rel > 10*kd || pk.AtBound {
 		t.Errorf("fastest k = %.12g, closed form %.12g (rel %.2g > %.2g)", pk.K, kStar, rel, 10*kd)
