@@ -113,29 +113,68 @@ func SphericalJ(dst []float64, x float64) []float64 {
 	} else {
 		j1 = sin/(x*x) - cos/x
 	}
-	// Upward recurrence for orders n < x.
-	up := int(x) // orders 0..up are computed upward
-	if up > n-1 {
-		up = n - 1
-	}
 	dst[0] = j0
 	if n > 1 {
 		dst[1] = j1
 	}
+	return besselRecur(dst, x, 0.5)
+}
+
+// BesselJ sets dst[n] = J_n(x) for the integer orders n = 0, …, len(dst)−1
+// and returns dst. x must be ≥ 0 (a negative or NaN x panics). It
+// allocates nothing. J₀ and J₁ are math.J0 and math.J1; the other orders
+// use the recurrence J_{n+1} = (2n/x) J_n − J_{n−1} as in [SphericalJ]:
+// upward for n ≤ x, Miller's downward recurrence matched at order ⌊x⌋
+// above (J_n(x) > 0 there: its first zero exceeds n + 1). For orders
+// 0–16 one call takes about a tenth of the time of the 17 math.Jn calls it
+// replaces (BenchmarkBesselJ).
+func BesselJ(dst []float64, x float64) []float64 {
+	if !(x >= 0) {
+		panic(fmt.Sprintf("special: BesselJ of x = %g, want x ≥ 0", x))
+	}
+	n := len(dst)
+	if n == 0 {
+		return dst
+	}
+	if x == 0 {
+		dst[0] = 1
+		for i := 1; i < n; i++ {
+			dst[i] = 0
+		}
+		return dst
+	}
+	dst[0] = math.J0(x)
+	if n > 1 {
+		dst[1] = math.J1(x)
+	}
+	return besselRecur(dst, x, 0)
+}
+
+// besselRecur completes dst[2:] from dst[0] and dst[1] for the recurrence
+// y_{n+1} = 2(n + δ)/x · y_n − y_{n−1} of the Bessel functions of order
+// n + δ (δ = 0: J_n; δ = 1/2: spherical j_n, whose recurrence has the same
+// form): upward through the orders up to ⌊x⌋, where it is stable, and
+// Miller's downward recurrence above, matched to the upward value at ⌊x⌋.
+func besselRecur(dst []float64, x, delta float64) []float64 {
+	n := len(dst)
+	up := int(x) // orders 0..up are computed upward
+	if up > n-1 {
+		up = n - 1
+	}
 	for i := 1; i < up; i++ {
-		dst[i+1] = float64(2*i+1)/x*dst[i] - dst[i-1]
+		dst[i+1] = 2*(float64(i)+delta)/x*dst[i] - dst[i-1]
 	}
 	if up >= n-1 {
 		return dst
 	}
 	// Downward recurrence from a start order L well past both n and x (the
-	// ratio j_L/j_{L−1} ≈ x/(2L+1) is then accurate to round-off), down to
-	// order up, where it is matched to the upward value. j_up(x) > 0 there:
-	// the first zero of j_n lies beyond n + 1 > x (for n = 0 at π > 1).
+	// ratio y_L/y_{L−1} ≈ x/(2L) is then accurate to round-off), down to
+	// order up, where it is matched to the upward value. y_up(x) > 0 there:
+	// the first zero of the order-ν function lies beyond ν + 1 > x.
 	L := n + int(x) + 20 + int(math.Sqrt(40*float64(n+int(x))))
 	var next, cur float64 = 0, 1e-300
 	for i := L; i > up; i-- {
-		prev := float64(2*i+1)/x*cur - next // j_{i−1}
+		prev := 2*(float64(i)+delta)/x*cur - next // y_{i−1}
 		next, cur = cur, prev
 		if i-1 < n && i-1 > up {
 			dst[i-1] = cur

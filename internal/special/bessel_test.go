@@ -53,25 +53,29 @@ func readRef(t *testing.T, path string) []refRow {
 }
 
 // TestBesselAgainstReferences compares with scipy.special (kv, kve, k0, k1,
-// spherical_jn) and with j_n summed exactly in rational arithmetic (sjnx);
-// the values are in testdata/bessel.csv from testdata/gen.py.
+// jv, spherical_jn) and with j_n and J_n summed from their power series in
+// decimal arithmetic with 40 guard digits beyond the cancellation, i.e.
+// correctly rounded (sjnx, jnx); the values are in testdata/bessel.csv
+// from testdata/gen.py.
 //
 // Tolerances: K_ν is a trapezoidal sum of positive terms whose
 // discretisation error is below 1e-17 (see KScaled), so its error is
 // round-off (about one ulp per term and the ulp of exp and cosh) plus
 // SciPy's own error (Cephes/AMOS, a few ulp): observed at most 1.5e-15
 // relative, tolerance 1e-14 (45 ulp; the observed maximum times ~7).
-// j_n is compared relative to its envelope max(|j_n|, 1/max(x, n))
-// (|j_n| ≈ 1/x in the oscillatory region), because near its zeros a
-// relative error means nothing. Against the exact series (correctly
-// rounded): observed 1.4e-15, tolerance 4e-15 (each recurrence step adds
-// about an ulp of the envelope; the observed maximum times ~3). Against
-// SciPy: observed 8.4e-15 at (n, x) = (13, 12), where the exact series
-// shows SciPy itself off by 2e-14 relative and memix correct to 1 ulp;
-// tolerance 2e-14.
+// The Bessel functions are compared relative to their value below their
+// first zero (x ≤ n + 1) and relative to the envelope (1/x for j_n,
+// sqrt(2/(πx)) for J_n) in the oscillatory region above, because near a
+// zero a relative error means nothing. Against the exact series
+// (correctly rounded): observed 2.4e-15 for both j_n and J_n; tolerance
+// 5e-15 (each recurrence step adds about an ulp; twice the observed
+// maximum). Against SciPy the differences are SciPy's own errors, as the
+// exact series shows wherever both are tabulated: spherical_jn is off by
+// up to 4.2e-14 relative (e.g. (n, x) = (34, 1e-6), and 2e-14 near n = x),
+// tolerance 1e-13; jv by 1.9e-13 at (49, 1000), tolerance 4e-13.
 func TestBesselAgainstReferences(t *testing.T) {
 	rows := readRef(t, filepath.Join("testdata", "bessel.csv"))
-	const tolK, tolExact, tolSciPy = 1e-14, 4e-15, 2e-14
+	const tolK, tolExact, tolSciPy, tolSciPyJ = 1e-14, 5e-15, 1e-13, 4e-13
 	maxErr := map[string]float64{}
 	buf := make([]float64, 64)
 	for _, r := range rows {
@@ -85,11 +89,30 @@ func TestBesselAgainstReferences(t *testing.T) {
 			got, scale, tol = K(r.order, r.x), r.value, tolK
 		case "kve":
 			got, scale, tol = KScaled(r.order, r.x), r.value, tolK
-		case "sjn", "sjnx":
+		case "sjn", "sjnx", "jn", "jnx":
 			n := int(r.order)
-			got = SphericalJ(buf[:n+1], r.x)[n]
-			scale, tol = math.Max(math.Abs(r.value), 1/math.Max(r.x, float64(n))), tolSciPy
-			if r.fn == "sjnx" {
+			if r.fn[0] == 's' {
+				got = SphericalJ(buf[:n+1], r.x)[n]
+			} else {
+				got = BesselJ(buf[:n+1], r.x)[n]
+			}
+			// Below the first zero (x ≤ n + 1) the error is relative;
+			// above, relative to the envelope 1/x of j_n and
+			// sqrt(2/(πx)) of J_n. Values below 1e-290 (near the
+			// subnormal range) are compared to 1e-290.
+			scale = math.Max(math.Abs(r.value), 1e-290)
+			if r.x > float64(n)+1 {
+				env := 1 / r.x
+				if r.fn[0] == 'j' {
+					env = math.Sqrt(2 / (math.Pi * r.x))
+				}
+				scale = math.Max(scale, env)
+			}
+			tol = tolSciPy
+			if r.fn == "jn" {
+				tol = tolSciPyJ
+			}
+			if strings.HasSuffix(r.fn, "x") {
 				tol = tolExact
 			}
 		default:
@@ -173,10 +196,33 @@ func TestSpecialCases(t *testing.T) {
 	SphericalJ(j, -1)
 }
 
-func TestSphericalJAllocs(t *testing.T) {
+func TestBesselAllocs(t *testing.T) {
 	buf := make([]float64, 20)
 	if a := testing.AllocsPerRun(10, func() { SphericalJ(buf, 3.7) }); a != 0 {
 		t.Errorf("SphericalJ allocates %v times", a)
+	}
+	if a := testing.AllocsPerRun(10, func() { BesselJ(buf, 3.7) }); a != 0 {
+		t.Errorf("BesselJ allocates %v times", a)
+	}
+}
+
+// BenchmarkBesselJ compares one BesselJ call for orders 0..16 with 17
+// calls of math.Jn.
+func BenchmarkBesselJ(b *testing.B) {
+	buf := make([]float64, 17)
+	for _, x := range []float64{3, 30, 300} {
+		b.Run(fmt.Sprintf("BesselJ/x=%g", x), func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				BesselJ(buf, x)
+			}
+		})
+		b.Run(fmt.Sprintf("math.Jn/x=%g", x), func(b *testing.B) {
+			for i := 0; i < b.N; i++ {
+				for n := range buf {
+					buf[n] = math.Jn(n, x)
+				}
+			}
+		})
 	}
 }
 
