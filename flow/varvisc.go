@@ -85,6 +85,7 @@ type VarSolver struct {
 	etaMin, etaMax float64
 	etaBar         float64   // preconditioner viscosity η̄
 	invDbar        []float64 // 1/(η̄k² + Γ + ξ); at k = 0, 1/D(0) or 0
+	invK2          []float64 // 1/k² per spectral index; 0 at k = 0
 
 	bx, by []complex128 // projected right-hand side P f
 	xx, xy []complex128 // iterate; between solves the warm-start guess
@@ -124,6 +125,10 @@ func NewVarSolver(p spectral.Plan, m Membrane, opt PCGOptions) (*VarSolver, erro
 	s.hasD0 = s.damp[0] > 0
 	s.twoEta = make([]float64, nr)
 	s.invDbar = make([]float64, ns)
+	s.invK2 = make([]float64, ns)
+	for idx := 1; idx < ns; idx++ {
+		s.invK2[idx] = 1 / k2[idx]
+	}
 	for _, v := range []*[]complex128{&s.bx, &s.by, &s.xx, &s.xy, &s.rx, &s.ry, &s.zx, &s.zy, &s.px, &s.py, &s.qx, &s.qy, &s.sxx, &s.sxy} {
 		*v = make([]complex128, ns)
 	}
@@ -370,15 +375,15 @@ func (s *VarSolver) apply(qx, qy, px, py []complex128) {
 	// row and column, so their wavenumbers never enter.
 	for j := 0; j < g.Ny; j++ {
 		row := j * nk
-		ry := ky[j]
+		hy := 0.5 * ky[j]
 		for i := 0; i < nk; i++ {
 			idx := row + i
-			rx := kx[i]
-			a, b := px[idx], py[idx]
-			dxx := (complex(rx, 0)*a - complex(ry, 0)*b) * 0.5
-			dxy := (complex(rx, 0)*b + complex(ry, 0)*a) * 0.5
-			s.sxx[idx] = complex(-imag(dxx), real(dxx))
-			s.sxy[idx] = complex(-imag(dxy), real(dxy))
+			hx := 0.5 * kx[i]
+			ar, ai := real(px[idx]), imag(px[idx])
+			br, bi := real(py[idx]), imag(py[idx])
+			// i·(kx a − ky b)/2 and i·(kx b + ky a)/2, in real arithmetic.
+			s.sxx[idx] = complex(-(hx*ai - hy*bi), hx*ar-hy*br)
+			s.sxy[idx] = complex(-(hx*bi + hy*ai), hx*br+hy*ar)
 		}
 	}
 	s.plan.InverseOverwrite(s.exx, s.sxx)
@@ -391,7 +396,6 @@ func (s *VarSolver) apply(qx, qy, px, py []complex128) {
 	s.plan.Forward(s.sxy, s.exy)
 	// −∇·σ with σ_yy = −σ_xx: (−∇·σ)_x = −i(kx σxx + ky σxy),
 	// (−∇·σ)_y = −i(kx σxy − ky σxx); project it, add (Γ + ξ) p.
-	k2 := g.K2()
 	half := g.Ny / 2
 	for j := 0; j < g.Ny; j++ {
 		row := j * nk
@@ -402,21 +406,23 @@ func (s *VarSolver) apply(qx, qy, px, py []complex128) {
 				qx[idx], qy[idx] = 0, 0
 				continue
 			}
-			d := complex(s.damp[idx], 0)
+			d := s.damp[idx]
 			if idx == 0 {
-				qx[0], qy[0] = d*px[0], d*py[0]
+				qx[0], qy[0] = complex(d, 0)*px[0], complex(d, 0)*py[0]
 				continue
 			}
 			rx := kx[i]
-			sa, sb := s.sxx[idx], s.sxy[idx]
-			tx := complex(rx, 0)*sa + complex(ry, 0)*sb
-			ty := complex(rx, 0)*sb - complex(ry, 0)*sa
-			kt := (complex(rx, 0)*tx + complex(ry, 0)*ty) * complex(1/k2[idx], 0)
-			tx -= complex(rx, 0) * kt
-			ty -= complex(ry, 0) * kt
+			sar, sai := real(s.sxx[idx]), imag(s.sxx[idx])
+			sbr, sbi := real(s.sxy[idx]), imag(s.sxy[idx])
+			txr, txi := rx*sar+ry*sbr, rx*sai+ry*sbi
+			tyr, tyi := rx*sbr-ry*sar, rx*sbi-ry*sai
+			ik2 := s.invK2[idx]
+			ktr, kti := (rx*txr+ry*tyr)*ik2, (rx*txi+ry*tyi)*ik2
+			txr, txi = txr-rx*ktr, txi-rx*kti
+			tyr, tyi = tyr-ry*ktr, tyi-ry*kti
 			// −i t = (imag t, −real t)
-			qx[idx] = complex(imag(tx), -real(tx)) + d*px[idx]
-			qy[idx] = complex(imag(ty), -real(ty)) + d*py[idx]
+			qx[idx] = complex(txi+d*real(px[idx]), -txr+d*imag(px[idx]))
+			qy[idx] = complex(tyi+d*real(py[idx]), -tyr+d*imag(py[idx]))
 		}
 	}
 	s.hermitianColumn(qx)
@@ -431,7 +437,6 @@ func (s *VarSolver) project(vx, vy []complex128) {
 	g := s.g
 	nk := g.Nkx()
 	kx, ky := g.Kx(), g.Ky()
-	k2 := g.K2()
 	half := g.Ny / 2
 	for j := 0; j < g.Ny; j++ {
 		row := j * nk
@@ -446,9 +451,12 @@ func (s *VarSolver) project(vx, vy []complex128) {
 				continue
 			}
 			rx := kx[i]
-			kv := (complex(rx, 0)*vx[idx] + complex(ry, 0)*vy[idx]) * complex(1/k2[idx], 0)
-			vx[idx] -= complex(rx, 0) * kv
-			vy[idx] -= complex(ry, 0) * kv
+			ar, ai := real(vx[idx]), imag(vx[idx])
+			br, bi := real(vy[idx]), imag(vy[idx])
+			ik2 := s.invK2[idx]
+			kr, ki := (rx*ar+ry*br)*ik2, (rx*ai+ry*bi)*ik2
+			vx[idx] = complex(ar-rx*kr, ai-rx*ki)
+			vy[idx] = complex(br-ry*kr, bi-ry*ki)
 		}
 	}
 	if s.hasD0 {
