@@ -36,7 +36,7 @@ static herr_t memix_h5_walk(unsigned n, const H5E_error2_t *e, void *data) {
 }
 
 // memix_h5_stack writes the descriptions of the calling thread's HDF5 error
-// stack, outermost first, into buf and clears the stack.
+// stack, innermost (most specific) first, into buf and clears the stack.
 static void memix_h5_stack(char *buf, size_t cap) {
 	memix_msgs m = {buf, 0, cap, 0};
 	buf[0] = 0;

@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"os"
+	"path/filepath"
 	"strings"
 
 	"gonum.org/v1/hdf5"
@@ -266,10 +267,14 @@ func (f *File) ReadField(dst []float64, name string, snap int) ([]float64, error
 		}
 		grp, err := f.root.OpenGroup(loc)
 		if err != nil {
-			if f.hdr.kind == KindSnapshotIndex {
-				return h5fail("open "+s.File+" (missing, truncated or damaged)", err)
+			if f.hdr.kind != KindSnapshotIndex {
+				return h5fail("open group "+loc, err)
 			}
-			return h5fail("open group "+loc, err)
+			err = h5fail(s.File+": truncated or damaged", err)
+			if _, serr := os.Stat(filepath.Join(filepath.Dir(f.path), s.File)); errors.Is(serr, os.ErrNotExist) {
+				return fmt.Errorf("snapshot file %s is missing: %w", s.File, serr)
+			}
+			return err
 		}
 		defer grp.Close()
 		if f.hdr.kind == KindSnapshotIndex {
