@@ -48,8 +48,10 @@
 // snapshot file that no index lists (the process died between the two
 // renames, or the index could not be written) is harmless, is replaced by
 // the next write and is removed when the run resumes. The cost is one
-// rewrite of the index and sidecar per snapshot, which grow by a few
-// hundred bytes per snapshot. Alternatives rejected: one file grown in
+// rewrite of the index and sidecar per snapshot; measured, the index grows
+// by about 50 bytes per snapshot (from about 12 kB) and the sidecar by
+// about 0.5 kB plus 0.3 kB per field, small beside a snapshot's data up to
+// thousands of snapshots. Alternatives rejected: one file grown in
 // SWMR mode (not exposed by gonum/hdf5, needs extendible chunked datasets,
 // and a file left by a crashed writer must be repaired with HDF5's tools
 // before it can be written again); rewriting one growing file per snapshot
@@ -57,7 +59,7 @@
 //
 // series.csv is the exception: it is append-only. Each row reaches the
 // operating system in one write as soon as it is given, so a crash of the
-// process loses and tears nothing; Sync (called before every checkpoint)
+// process loses no row already given and tears none; Sync (called before every checkpoint)
 // makes the rows durable. After a power loss the last row may be torn;
 // [ResumeSeries] drops it, together with every row past the checkpoint's
 // step.
