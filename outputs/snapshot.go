@@ -183,8 +183,14 @@ func ResumeSnapshotWriter(dir string, g *spectral.Grid, info RunInfo, lastStep i
 // and the snapshot files that the index does not list.
 func (w *SnapshotWriter) prepareDir() error {
 	sd := filepath.Join(w.dir, SnapshotDirName)
-	if err := os.MkdirAll(sd, 0o755); err != nil {
-		return fmt.Errorf("outputs: snapshots: %w", err)
+	if _, err := os.Stat(sd); errors.Is(err, os.ErrNotExist) {
+		if err := os.Mkdir(sd, 0o755); err != nil {
+			return fmt.Errorf("outputs: snapshots: %w", err)
+		}
+		// Make the new directory's entry durable before files go in.
+		if err := w.fs.SyncDir(w.dir); err != nil {
+			return fmt.Errorf("outputs: snapshots: fsync %s: %w", w.dir, err)
+		}
 	}
 	if err := RemoveStaleTemps(sd); err != nil {
 		return err

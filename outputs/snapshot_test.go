@@ -287,10 +287,14 @@ func TestSnapshotWriteErrorInsideHDF5(t *testing.T) {
 	if err := syscall.Setrlimit(syscall.RLIMIT_FSIZE, &lim); err != nil {
 		t.Skip("setrlimit:", err)
 	}
-	err = w.Write(15, 30, testFields(g, 2))
-	if rerr := syscall.Setrlimit(syscall.RLIMIT_FSIZE, &old); rerr != nil {
-		t.Fatal("restoring RLIMIT_FSIZE:", rerr)
-	}
+	func() {
+		defer func() {
+			if rerr := syscall.Setrlimit(syscall.RLIMIT_FSIZE, &old); rerr != nil {
+				t.Fatal("restoring RLIMIT_FSIZE:", rerr)
+			}
+		}()
+		err = w.Write(15, 30, testFields(g, 2))
+	}()
 	mustContain(t, err, filepath.Join(dir, snapshotFile(2)), "File too large")
 	if !errors.Is(err, syscall.EFBIG) {
 		t.Errorf("error %v does not wrap EFBIG", err)
