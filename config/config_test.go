@@ -404,3 +404,21 @@ func TestEditDistance(t *testing.T) {
 		}
 	}
 }
+
+func TestValue(t *testing.T) {
+	c := Default()
+	for k, want := range map[string]string{"membrane.viscosity": "1e-09 Pa*s*m", "grid.n": "128", "subphase.upper.kind": "deep", "grid.fft_measure": "false"} {
+		if got, ok := c.Value(k); !ok || got != want {
+			t.Errorf("Value(%s) = %q, %v; want %q", k, got, ok, want)
+		}
+	}
+	if _, ok := c.Value("grid.nx"); ok {
+		t.Error("grid.nx is set before Resolved")
+	}
+	if got, ok := c.Resolved().Value("grid.nx"); !ok || got != "128" {
+		t.Errorf("resolved grid.nx = %q", got)
+	}
+	if _, ok := c.Value("nope"); ok {
+		t.Error("unknown key has a value")
+	}
+}

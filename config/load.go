@@ -335,3 +335,19 @@ func (c Config) valueText(l *leaf, x any) string {
 	}
 	return l.format(x)
 }
+
+// Value returns the value of key as the resolved configuration writes it
+// ("1e-09 Pa*s*m", "128", "deep"), and false if the key is unknown or,
+// being optional, not set. Keys with a fallback derived from other keys
+// are reported as set only in a Resolved configuration.
+func (c Config) Value(key string) (string, bool) {
+	l, ok := theSchema().byKey[key]
+	if !ok {
+		return "", false
+	}
+	x, ok := l.get(&c)
+	if !ok {
+		return "", false
+	}
+	return l.format(x), true
+}
