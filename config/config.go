@@ -146,14 +146,12 @@ func (g GridSection) check(at string, _ *Config, report func(*FieldError)) {
 	if g.FFT != string(spectral.FFTW) || slices.Contains(spectral.Backends(), spectral.FFTW) {
 		return
 	}
-	{
-		var names []string
-		for _, b := range spectral.Backends() {
-			names = append(names, string(b))
-		}
-		report(&FieldError{Key: at + ".fft", Value: g.FFT, Range: "auto|" + joinBar(names),
-			Err: fmt.Errorf("%w: this binary was built without FFTW (nofftw tag or no cgo)", ErrRange)})
+	var names []string
+	for _, b := range spectral.Backends() {
+		names = append(names, string(b))
 	}
+	report(&FieldError{Key: at + ".fft", Value: g.FFT, Range: "auto|" + joinBar(names),
+		Err: fmt.Errorf("%w: this binary was built without FFTW (nofftw tag or no cgo)", ErrRange)})
 }
 
 // LengthUnit returns ℓ₀: units.length, or the box length along x.

@@ -6,8 +6,11 @@ import (
 	"flag"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
+
+	"github.com/memix-sim/memix/spectral"
 )
 
 var update = flag.Bool("update", false, "rewrite golden files (docs/config.md, testdata/*.golden)")
@@ -420,5 +423,56 @@ func TestValue(t *testing.T) {
 	}
 	if _, ok := c.Value("nope"); ok {
 		t.Error("unknown key has a value")
+	}
+}
+
+// FuzzParse: no configuration text makes Parse panic; every failure is a
+// FileError or a list of FieldErrors, and a success validates.
+func FuzzParse(f *testing.F) {
+	for _, p := range exampleFilesF(f) {
+		data, _ := os.ReadFile(p)
+		f.Add(data)
+	}
+	for _, s := range []string{"", "membrane: 5", "grid: {n: 127}", "subphase: {upper: {kind: wall}}", "a: [1, {b: c}]",
+		"temperature: 1 kT", "grid: {box: .inf}", "membrane: {viscosity: !!binary aGVsbG8=}", "&a [*a]", "? [a]\n: b"} {
+		f.Add([]byte(s))
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		c, err := Parse(data, "fuzz.yaml")
+		if err == nil {
+			if verr := c.Validate(); verr != nil {
+				t.Fatalf("Parse accepted an invalid configuration: %v", verr)
+			}
+			return
+		}
+		var fe *FileError
+		if !errors.As(err, &fe) && len(Problems(err)) == 0 {
+			t.Fatalf("error of an unexpected kind: %#v", err)
+		}
+	})
+}
+
+func exampleFilesF(f *testing.F) []string {
+	files, _ := filepath.Glob("../examples/*.yaml")
+	return files
+}
+
+// TestFFTBackend: asking for FFTW in a binary built without it is a
+// configuration error naming the key; run with -tags nofftw to see it.
+func TestFFTBackend(t *testing.T) {
+	_, err := Parse([]byte("grid: {fft: fftw}"), "f.yaml")
+	if slices.Contains(spectral.Backends(), spectral.FFTW) {
+		if err != nil {
+			t.Errorf("fftw is compiled in: %v", err)
+		}
+	} else if ps := Problems(err); len(ps) != 1 || ps[0].Key != "grid.fft" || !strings.Contains(ps[0].Error(), "without FFTW") {
+		t.Errorf("fftw is not compiled in: %v", err)
+	}
+	c := mustParse(t, "grid: {fft: gonum, threads: 3}")
+	if o := c.Grid.PlanOptions(); o.Backend != spectral.Gonum || o.Threads != 3 {
+		t.Errorf("plan options %+v", o)
+	}
+	if b := Default().Grid.Backend(); b != spectral.DefaultBackend() {
+		t.Errorf("auto backend %v", b)
 	}
 }
