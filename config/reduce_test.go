@@ -37,7 +37,9 @@ func loadExamples(t *testing.T) []Config {
 // tolerance is 16 ulp.
 func TestUnits(t *testing.T) {
 	worst := 0.0
-	defer func() { t.Logf("largest relative difference of η₀ℓ₀²/τ₀ and kT: %.1f ulp (tolerance 16)", worst/ulp) }()
+	defer func() {
+		t.Logf("largest relative difference of η₀ℓ₀²/τ₀ and kT: %.1f ulp (tolerance 16)", worst/ulp)
+	}()
 	for _, c := range append(loadExamples(t), Default()) {
 		u := c.ReducedUnits()
 		if u.Scale(DimLength) != float64(u.Length) || u.Scale(DimTime) != float64(u.Time) || u.Scale(DimTemperature) != float64(u.Temperature) {
