@@ -139,7 +139,9 @@ func TestReduce(t *testing.T) {
 }
 
 // TestScales checks the derived lengths against hand-evaluated formulas
-// (MODEL.md §1: L_SD = η_m/(η₊+η₋), ℓ_H = sqrt(η_m H/η), sqrt(η_m/ξ)) and
+// (MODEL.md §1: L_SD = η_m/(η₊+η₋), the length of Saffman & Delbrück,
+// PNAS 72, 3111 (1975), with both sides summed; ℓ_H = sqrt(η_m H/η), the
+// 2D Brinkman limit [derived]; sqrt(η_m/ξ) [derived]) and
 // the combination rule 1/ℓ² = Σ 1/ℓᵢ² implied by D(0)/η_m = Σ ηᵢ/(Hᵢη_m)
 // + ξ/η_m [derived]. Each length is a couple of roundings: 4 ulp.
 func TestScales(t *testing.T) {
