@@ -3,6 +3,8 @@ GO      ?= go
 BIN     := bin/memix
 DEMO    ?= examples/demo.yaml
 DEMOOUT ?= demo-out
+# Printed by `memix version`; a build without it reports "dev".
+VERSION ?= $(shell git describe --tags --always --dirty 2>/dev/null || echo dev)
 
 .PHONY: setup build demo test test-slurm bench clean
 
@@ -10,7 +12,7 @@ setup:
 	scripts/setup.sh
 
 build: setup
-	$(GO) build -o $(BIN) ./cmd/memix
+	$(GO) build -ldflags "-X main.version=$(VERSION)" -o $(BIN) ./cmd/memix
 
 demo: build
 	scripts/demo.sh $(BIN) $(DEMO) $(DEMOOUT)

@@ -1,0 +1,35 @@
+// Command memix simulates lipid membranes carrying active inclusions:
+// membrane hydrodynamics over deep, confined or frictional subphases on a
+// periodic grid, and what the flow does to the inclusions and the lipid
+// composition.
+//
+// Usage:
+//
+//	memix check CONFIG [--json|--csv] [--resolved]
+//	memix version [--json|--csv]
+//	memix help [COMMAND]
+//
+// Every command that prints numbers prints aligned text by default, JSON
+// with --json and CSV with --csv (see internal/report). The configuration
+// keys are documented in docs/config.md.
+//
+// # Exit codes
+//
+//	0  success
+//	1  failure: the command ran and could not complete (an I/O error, a
+//	   numerical failure, an interruption)
+//	2  usage or configuration error: an unknown command or flag, a wrong
+//	   number of arguments, or a configuration file that is missing,
+//	   unreadable or invalid (every problem is listed on stderr)
+//
+// # Adding a command
+//
+// A command is one file: a constructor func(*env) *cobra.Command that
+// builds a fresh command (flags bound to local variables, RunE doing the
+// work through library packages and printing through report), registered
+// from the file's init function with register. main only calls run, which
+// builds the command tree anew for each call, so tests run every command
+// in-process with arguments and buffers. Use loadConfig to read a
+// configuration so that its problems print and exit like every other
+// command's.
+package main

@@ -1,0 +1,36 @@
+package config_test
+
+import (
+	"fmt"
+
+	"github.com/memix-sim/memix/config"
+)
+
+// A membrane 100 nm above a wall: parse, check, derive the scales and
+// reduce to solver units.
+func Example() {
+	c, err := config.Parse([]byte(`
+membrane: {viscosity: 1e-9 Pa*s*m}
+subphase:
+  lower: {kind: wall, depth: 100 nm}
+grid: {n: 128, box: 10 um}
+`), "example.yaml")
+	if err != nil {
+		fmt.Println(err)
+		return
+	}
+	s := c.Scales()
+	fmt.Println("Saffman–Delbrück length:", s.SaffmanDelbruck)
+	fmt.Println("screening length of the wall:", s.WallLower)
+	r, _ := config.Reduce(c)
+	fmt.Printf("reduced: η_m = %g, η = %.4g, H = %.4g, box %g×%g, kT = %.4f\n",
+		r.Membrane.Viscosity, r.Membrane.Lower.Viscosity, r.Membrane.Lower.Depth, r.Grid.Lx, r.Grid.Ly, r.KT)
+
+	_, err = c.Set("membrane.viscosity", "0.89 mPa*s")
+	fmt.Println(err)
+	// Output:
+	// Saffman–Delbrück length: 561.8 nm
+	// screening length of the wall: 335.2 nm
+	// reduced: η_m = 1, η = 8.9, H = 0.01, box 1×1, kT = 1.0000
+	// membrane.viscosity = "0.89 mPa*s": wrong dimension: expected a surface viscosity, e.g. Pa*s*m or sP; got a viscosity (valid: > 0 Pa*s*m)
+}
