@@ -251,8 +251,11 @@ func (m *Model) InitLipidRandom(mean, amp float64, rng *rand.Rand) error {
 }
 
 // InitStripes sets count periods of φ = +1 | −1 bands along axis, each
-// band half a period wide, the first +1 band starting at the origin, with
-// interfaces smoothed to tanh(d/width) (width 0: [Model.InterfaceWidth]).
+// band half a period P wide, the first +1 band starting at the origin:
+// φ = tanh(A sin(2πs/P)) with A = P/(2π·width), a smooth (analytic)
+// square wave whose interfaces have the profile tanh(d/width) up to a
+// relative distortion (2π·width/P)²/6 (width 0: [Model.InterfaceWidth]).
+// The bulk value tanh(A) is within 1 % of ±1 when P ≥ 17·width.
 func (m *Model) InitStripes(count int, axis Axis, width float64) error {
 	w, err := m.lipidWidth(width)
 	if err != nil {
@@ -266,20 +269,14 @@ func (m *Model) InitStripes(count int, axis Axis, width float64) error {
 		L = m.g.Ly
 	}
 	period := L / float64(count)
+	a := period / (2 * math.Pi * w)
 	for j := 0; j < m.g.Ny; j++ {
 		for i := 0; i < m.g.Nx; i++ {
 			x := m.g.X(i)
 			if axis == AxisY {
 				x = m.g.Y(j)
 			}
-			s := math.Mod(x, period)
-			var v float64
-			if s < period/2 {
-				v = math.Tanh(math.Min(s, period/2-s) / w)
-			} else {
-				v = -math.Tanh(math.Min(s-period/2, period-s) / w)
-			}
-			m.t1[j*m.g.Nx+i] = v
+			m.t1[j*m.g.Nx+i] = math.Tanh(a * math.Sin(2*math.Pi*x/period))
 		}
 	}
 	m.setReal(m.iPhi, m.t1)
@@ -292,8 +289,11 @@ func (m *Model) InitStripes(count int, axis Axis, width float64) error {
 func (m *Model) InitHalves(axis Axis, width float64) error { return m.InitStripes(1, axis, width) }
 
 // InitDisks sets φ = +1 inside count disks of the given radius and −1
-// outside, profile tanh((radius − r)/width) with r the periodic distance to
-// the nearest centre; centres are uniform in the box (overlaps merge).
+// outside: each disk d has the indicator s_d = (1 + tanh((radius − r_d)/width))/2
+// with r_d the periodic (nearest-image) distance to its centre, and
+// φ = 1 − 2∏_d(1 − s_d), a smooth union (overlapping disks merge). Centres
+// are uniform in the box. The radius plus a few widths should stay below
+// half the box, where the nearest image switches.
 func (m *Model) InitDisks(count int, radius, width float64, rng *rand.Rand) error {
 	w, err := m.lipidWidth(width)
 	if err != nil {
@@ -310,11 +310,12 @@ func (m *Model) InitDisks(count int, radius, width float64, rng *rand.Rand) erro
 	wrap := func(d, L float64) float64 { return d - L*math.Round(d/L) }
 	for j := 0; j < g.Ny; j++ {
 		for i := 0; i < g.Nx; i++ {
-			r := math.Inf(1)
+			out := 1.0
 			for d := range cx {
-				r = math.Min(r, math.Hypot(wrap(g.X(i)-cx[d], g.Lx), wrap(g.Y(j)-cy[d], g.Ly)))
+				r := math.Hypot(wrap(g.X(i)-cx[d], g.Lx), wrap(g.Y(j)-cy[d], g.Ly))
+				out *= (1 - math.Tanh((radius-r)/w)) / 2
 			}
-			m.t1[j*g.Nx+i] = math.Tanh((radius - r) / w)
+			m.t1[j*g.Nx+i] = 1 - 2*out
 		}
 	}
 	m.setReal(m.iPhi, m.t1)

@@ -445,8 +445,8 @@ func activeForce(g *spectral.Grid, fx, fy, q11, q12 []complex128, s float64) {
 }
 
 // korteweg sets (kx, ky) to the coefficients of −Aφ∇μ, μ = φ³ − φ − ε²∇²φ,
-// from φ's coefficients phi, its real values phiR and m.cube = (φ³)^. It
-// uses s3 and t1, t2.
+// from φ's coefficients phi, its real values phiR and m.cube = (φ³)^, with
+// μ and the force dealiased. It uses s3 and t1, t2.
 func (m *Model) korteweg(kx, ky, phi []complex128, phiR []float64) {
 	l := m.p.Lipid
 	e2 := l.Interface * l.Interface
@@ -454,6 +454,7 @@ func (m *Model) korteweg(kx, ky, phi []complex128, phiR []float64) {
 	for idx, v := range phi {
 		m.s3[idx] = m.cube[idx] - v + complex(e2*k2[idx], 0)*v
 	}
+	m.g.Dealias(m.s3)
 	m.g.Dx(kx, m.s3)
 	m.g.Dy(ky, m.s3)
 	m.invOver(m.t1, kx)
@@ -465,6 +466,10 @@ func (m *Model) korteweg(kx, ky, phi []complex128, phiR []float64) {
 	}
 	m.fwd(kx, m.t1)
 	m.fwd(ky, m.t2)
+	// The force drives the flow, which must stay band-limited for the
+	// products it enters.
+	m.g.Dealias(kx)
+	m.g.Dealias(ky)
 }
 
 // velocityReal sets ux, uy, w (vorticity) and, if needed, e11, e12 (strain
