@@ -86,6 +86,7 @@ type Model struct {
 	t1, t2, t3, t4, t5, t6  []float64
 	s1, s2, s3, s4, s5      []complex128
 	cube                    []complex128 // (φ³)^
+	zero                    []float64    // a real field of zeros, never written
 	rhsViews                [][]complex128
 	gamma                   []float64 // Γ₊(k) + Γ₋(k) per spectral index (diagnostics)
 	dfx, dfy, dkx, dky      []complex128
@@ -185,7 +186,7 @@ func NewModel(p Params, plan spectral.Plan, fs FlowSolver) (*Model, error) {
 	for f := range m.rf {
 		m.rf[f] = make([]float64, nr)
 	}
-	for _, r := range []*[]float64{&m.ux, &m.uy, &m.w, &m.e11, &m.e12, &m.vx, &m.vy, &m.t1, &m.t2, &m.t3, &m.t4, &m.t5, &m.t6} {
+	for _, r := range []*[]float64{&m.ux, &m.uy, &m.w, &m.e11, &m.e12, &m.vx, &m.vy, &m.zero, &m.t1, &m.t2, &m.t3, &m.t4, &m.t5, &m.t6} {
 		*r = make([]float64, nr)
 	}
 	for _, s := range []*[]complex128{&m.s1, &m.s2, &m.s3, &m.s4, &m.s5, &m.cube, &m.dfx, &m.dfy, &m.dkx, &m.dky, &m.dux, &m.duy} {
@@ -654,53 +655,60 @@ func (m *Model) modeTerm(n int, da, db []complex128, vx, vy []float64) {
 		return
 	}
 	a, b := m.rf[2*n-1], m.rf[2*n]
-	for i := range a {
-		m.t1[i], m.t2[i] = vx[i]*a[i], vy[i]*a[i]
-		m.t3[i], m.t4[i] = vx[i]*b[i], vy[i]*b[i]
-	}
-	if m.flowOn {
-		hw := float64(n) / 2
-		var pr, pi, sr, si []float64
-		psign := 1.0
-		switch {
-		case n == 1:
-			pr, pi, psign = m.rf[1], m.rf[2], -1
-		case n == 2:
-			pr = m.rf[m.iC]
-		default:
-			pr, pi = m.rf[2*n-5], m.rf[2*n-4]
-		}
-		if n+2 <= m.harm {
-			sr, si = m.rf[2*n+3], m.rf[2*n+4]
-		}
-		hb := float64(n) * m.p.Inclusions.Alignment / 2
+	if !m.flowOn {
 		for i := range a {
-			w := m.w[i] * hw
-			ra, rb := -w*b[i], w*a[i]
-			if m.needE {
-				er, ei := m.e11[i], m.e12[i]
-				p, q := pr[i], 0.0
-				if pi != nil {
-					q = psign * pi[i]
-				}
-				// e·P − ē·S
-				xr := er*p - ei*q
-				xi := er*q + ei*p
-				if sr != nil {
-					s, u := sr[i], si[i]
-					xr -= er*s + ei*u
-					xi -= er*u - ei*s
-				}
-				ra += hb * xr
-				rb += hb * xi
-			}
-			m.t5[i], m.t6[i] = ra, rb
+			m.t1[i], m.t2[i] = vx[i]*a[i], vy[i]*a[i]
+			m.t3[i], m.t4[i] = vx[i]*b[i], vy[i]*b[i]
 		}
-		m.fwd(da, m.t5)
-		m.fwd(db, m.t6)
+		m.fluxInto(da, m.t1, m.t2, false)
+		m.fluxInto(db, m.t3, m.t4, false)
+		return
 	}
-	m.fluxInto(da, m.t1, m.t2, m.flowOn)
-	m.fluxInto(db, m.t3, m.t4, m.flowOn)
+	// m_{n−2} = pr + i·psign·pi and m_{n+2} = sr + i si; absent parts are
+	// read from the zero field so that the loop has no branches.
+	pr, pi, sr, si := m.zero, m.zero, m.zero, m.zero
+	psign := 1.0
+	switch {
+	case n == 1:
+		pr, pi, psign = m.rf[1], m.rf[2], -1
+	case n == 2:
+		pr = m.rf[m.iC]
+	default:
+		pr, pi = m.rf[2*n-5], m.rf[2*n-4]
+	}
+	if n+2 <= m.harm {
+		sr, si = m.rf[2*n+3], m.rf[2*n+4]
+	}
+	hw := float64(n) / 2
+	hb := float64(n) * m.p.Inclusions.Alignment / 2
+	modeKernel(m.t1, m.t2, m.t3, m.t4, m.t5, m.t6, a, b, vx, vy, m.w, m.e11, m.e12, pr, pi, sr, si, hw, hb, psign)
+	m.fwd(da, m.t5)
+	m.fwd(db, m.t6)
+	m.fluxInto(da, m.t1, m.t2, true)
+	m.fluxInto(db, m.t3, m.t4, true)
+}
+
+// modeKernel forms, pointwise, the fluxes (fxa, fya, fxb, fyb) = v·(a, b)
+// and the rotation terms (ra, rb) = Re, Im of
+// i hw ω (a + ib) + hb (e P − ē S), e = e11 + i e12, P = pr + i psign pi,
+// S = sr + i si. All slices have the length of a.
+func modeKernel(fxa, fya, fxb, fyb, ra, rb, a, b, vx, vy, w, e11, e12, pr, pi, sr, si []float64, hw, hb, psign float64) {
+	n := len(a)
+	fxa, fya, fxb, fyb, ra, rb = fxa[:n], fya[:n], fxb[:n], fyb[:n], ra[:n], rb[:n]
+	b, vx, vy, w, e11, e12 = b[:n], vx[:n], vy[:n], w[:n], e11[:n], e12[:n]
+	pr, pi, sr, si = pr[:n], pi[:n], sr[:n], si[:n]
+	for i := 0; i < n; i++ {
+		x, y := a[i], b[i]
+		ux, uy := vx[i], vy[i]
+		fxa[i], fya[i] = ux*x, uy*x
+		fxb[i], fyb[i] = ux*y, uy*y
+		o := hw * w[i]
+		er, ei := e11[i], e12[i]
+		p, q := pr[i], psign*pi[i]
+		s, u := sr[i], si[i]
+		ra[i] = -o*y + hb*(er*p-ei*q-er*s-ei*u)
+		rb[i] = o*x + hb*(er*q+ei*p-er*u+ei*s)
+	}
 }
 
 // propulsion adds the self-propulsion term −V₀[∂x(m_{n+1}+m_{n−1})/2 +
