@@ -4,6 +4,7 @@ import (
 	"errors"
 	"math"
 	"math/rand/v2"
+	"strings"
 	"testing"
 
 	"github.com/memix-sim/memix/fields"
@@ -113,6 +114,75 @@ func TestFFTCount(t *testing.T) {
 		}
 		if info.FFTs != c.want {
 			t.Errorf("%v M=%d lipid=%v: %d FFTs per step, want %d", c.model, c.m, c.lipid, info.FFTs, c.want)
+		}
+	}
+}
+
+// TestInitialConditions: the aligned state has the requested order and
+// director in both models (Diagnostics), the lipid patterns stay within
+// their phases and keep the symmetric stripe mean at 0, and bad arguments
+// are rejected with their valid range.
+func TestInitialConditions(t *testing.T) {
+	for _, model := range []fields.InclusionModel{fields.Moments, fields.Kinetic} {
+		r := newRig(t, activeParams(model, 6))
+		if err := r.m.InitAligned(0.3, 0.7); err != nil {
+			t.Fatal(err)
+		}
+		d := r.m.Diagnostics()
+		// The local order is a grid average: round-off n·ε with n points.
+		tol := float64(r.m.Grid().RealLen()) * eps
+		if math.Abs(d.Order-0.7) > tol || math.Abs(d.GlobalOrder-0.7) > tol || math.Abs(d.Director-0.3) > tol || d.MeanDensity != 1 {
+			t.Errorf("%v aligned: order %g, global %g, director %g, ⟨c⟩ %g; want 0.7, 0.7, 0.3, 1", model, d.Order, d.GlobalOrder, d.Director, d.MeanDensity)
+		}
+		if d.KineticEnergy != 0 {
+			t.Errorf("%v: a uniform state drives a flow (KE %g)", model, d.KineticEnergy)
+		}
+	}
+	// Lipid patterns on a grid that resolves the interface width √2ε (1.4
+	// spacings at 128²).
+	r := newRig(t, lipidParams(128, 128, 2*math.Pi, 2*math.Pi, 0.01,
+		fields.Lipid{Model: fields.CahnHilliard, Mobility: 1, Interface: 0.1}))
+	rng := rand.New(rand.NewPCG(31, 32))
+	for _, init := range []struct {
+		name string
+		f    func() error
+	}{
+		{"stripes", func() error { return r.m.InitStripes(2, fields.AxisY, 0) }},
+		{"halves", func() error { return r.m.InitHalves(fields.AxisX, 0.2) }},
+		{"disks", func() error { return r.m.InitDisks(4, 0.8, 0, rng) }},
+	} {
+		if err := init.f(); err != nil {
+			t.Fatal(err)
+		}
+		r.m.UpdateViews()
+		phi := r.m.Views()[0].Data
+		lo, hi := math.Inf(1), math.Inf(-1)
+		for _, v := range phi {
+			lo, hi = math.Min(lo, v), math.Max(hi, v)
+		}
+		// Dealiasing the tanh profiles overshoots ±1 by their truncation
+		// error, e^{−πwk_max/2} ≈ 10⁻⁴ (see TestCahnHilliardInterface); the
+		// stripes' bulk value is tanh(P/(2πw)) ≥ 0.998 (InitStripes).
+		if lo < -1.001 || hi > 1.001 || lo > -0.99 || hi < 0.99 {
+			t.Errorf("%s: φ in [%g, %g], want both phases, within [−1, 1]", init.name, lo, hi)
+		}
+		if d := r.m.Diagnostics(); init.name != "disks" && math.Abs(d.LipidMean) > 1e-15 {
+			t.Errorf("%s: ⟨φ⟩ = %g, want 0 by symmetry", init.name, d.LipidMean)
+		}
+	}
+	r = newRig(t, activeParams(fields.Moments, 0))
+	for _, err := range []error{
+		r.m.AddMode("Q11", 20, 0, 1, 0),
+		r.m.AddMode("psi", 1, 0, 1, 0),
+		r.m.InitAligned(0, 1.5),
+		r.m.InitIsotropic(1, rand.New(rand.NewPCG(1, 1))),
+		r.m.InitStripes(0, fields.AxisX, 0),
+		r.m.InitDisks(1, -1, 0, rand.New(rand.NewPCG(1, 1))),
+	} {
+		if err == nil {
+			t.Error("bad initial-condition arguments accepted")
+		} else if !strings.Contains(err.Error(), "must") && !strings.Contains(err.Error(), "valid") && !strings.Contains(err.Error(), "need") {
+			t.Errorf("error %q does not state the valid range", err)
 		}
 	}
 }
