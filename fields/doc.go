@@ -68,6 +68,14 @@
 // Trefethen, SIAM J. Sci. Comput. 26, 1214 (2005)]; all other terms are
 // explicit. See [Stepping] for the step-size control.
 //
+// Cost: one evaluation of the right-hand side with flow and alignment on
+// takes 16 FFTs of one real field for the moment model and 8M + 8 for the
+// kinetic model (each evolved field to real space, u, uy, ω, E₁₁, E₁₂,
+// and the flux and rotation terms back); Cahn–Hilliard adds 4, its
+// back-reaction 4 and the partition drift 2. A step takes four
+// evaluations; [StepInfo.FFTs] reports the count. Transforms use the
+// plan's threads; the pointwise kernels run on one goroutine.
+//
 // # Ownership and allocation
 //
 // A Model owns its state and scratch; a Stepper owns the stage buffers and
