@@ -604,33 +604,51 @@ func (m *Model) momentTerm(d11, d12 []complex128, vx, vy []float64) {
 		return
 	}
 	x, y, c := m.rf[m.iQ11], m.rf[m.iQ12], m.rf[m.iC]
-	for i := range x {
-		m.t1[i], m.t2[i] = vx[i]*x[i], vy[i]*x[i]
-		m.t3[i], m.t4[i] = vx[i]*y[i], vy[i]*y[i]
-	}
-	if m.flowOn {
-		hb := m.p.Inclusions.Alignment / 2
-		quad := m.p.Inclusions.Closure == Quadratic
+	if !m.flowOn {
 		for i := range x {
-			w := m.w[i]
-			r11, r12 := -w*y[i], w*x[i]
-			if m.needE {
-				er, ei := m.e11[i], m.e12[i]
-				var m4r, m4i float64
-				if quad && c[i] > 0 {
-					s := 4 / c[i]
-					m4r, m4i = s*(x[i]*x[i]-y[i]*y[i]), s*2*x[i]*y[i]
-				}
-				r11 += hb * (c[i]*er - (er*m4r + ei*m4i))
-				r12 += hb * (c[i]*ei - (er*m4i - ei*m4r))
-			}
-			m.t5[i], m.t6[i] = r11, r12
+			m.t1[i], m.t2[i] = vx[i]*x[i], vy[i]*x[i]
+			m.t3[i], m.t4[i] = vx[i]*y[i], vy[i]*y[i]
 		}
-		m.fwd(d11, m.t5)
-		m.fwd(d12, m.t6)
+		m.fluxInto(d11, m.t1, m.t2, false)
+		m.fluxInto(d12, m.t3, m.t4, false)
+		return
 	}
-	m.fluxInto(d11, m.t1, m.t2, m.flowOn)
-	m.fluxInto(d12, m.t3, m.t4, m.flowOn)
+	hb := m.p.Inclusions.Alignment / 2
+	// With the truncation closure the terms are those of the mode kernel
+	// for q with rotation factor 1, P = c, S = 0 and coefficient β/2.
+	if m.p.Inclusions.Closure == Quadratic {
+		quadKernel(m.t1, m.t2, m.t3, m.t4, m.t5, m.t6, x, y, c, vx, vy, m.w, m.e11, m.e12, hb)
+	} else {
+		modeKernel(m.t1, m.t2, m.t3, m.t4, m.t5, m.t6, x, y, vx, vy, m.w, m.e11, m.e12, c, m.zero, m.zero, m.zero, 1, hb, 1)
+	}
+	m.fwd(d11, m.t5)
+	m.fwd(d12, m.t6)
+	m.fluxInto(d11, m.t1, m.t2, true)
+	m.fluxInto(d12, m.t3, m.t4, true)
+}
+
+// quadKernel is the moment kernel with the quadratic closure: fluxes
+// v·(x, y) and the rotation terms Re, Im of
+// iωq + hb(c e − ē m₄), q = x + iy, m₄ = 4q²/c (0 where c ≤ 0).
+func quadKernel(fxa, fya, fxb, fyb, ra, rb, x, y, c, vx, vy, w, e11, e12 []float64, hb float64) {
+	n := len(x)
+	fxa, fya, fxb, fyb, ra, rb = fxa[:n], fya[:n], fxb[:n], fyb[:n], ra[:n], rb[:n]
+	y, c, vx, vy, w, e11, e12 = y[:n], c[:n], vx[:n], vy[:n], w[:n], e11[:n], e12[:n]
+	for i := 0; i < n; i++ {
+		a, b, ci := x[i], y[i], c[i]
+		ux, uy := vx[i], vy[i]
+		fxa[i], fya[i] = ux*a, uy*a
+		fxb[i], fyb[i] = ux*b, uy*b
+		er, ei := e11[i], e12[i]
+		var m4r, m4i float64
+		if ci > 0 {
+			s := 4 / ci
+			m4r, m4i = s*(a*a-b*b), s*2*a*b
+		}
+		o := w[i]
+		ra[i] = -o*b + hb*(ci*er-(er*m4r+ei*m4i))
+		rb[i] = o*a + hb*(ci*ei-(er*m4i-ei*m4r))
+	}
 }
 
 // fluxInto transforms the flux (fx, fy) (real) and sets d to −∇·flux, or
