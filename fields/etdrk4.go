@@ -102,8 +102,8 @@ type coefSlot struct {
 // stepper owns all its scratch: Step allocates nothing (given a FlowSolver
 // and Source that allocate nothing).
 //
-// Modes beyond the 2/3 dealiasing limit have all coefficients zero, so
-// every stage and the new state stay band-limited.
+// Only the modes the 2/3 rule keeps are updated; the others stay zero in
+// the state and every stage buffer, so the state stays band-limited.
 type Stepper struct {
 	m               *Model
 	s               Stepping
@@ -292,45 +292,50 @@ const (
 	stageD              // u = acc + f3·Nc
 )
 
-// combine applies one stage's pointwise update over every field.
+// combine applies one stage's pointwise update over every field, on the
+// modes the 2/3 rule keeps only: the others are zero in the state and the
+// stage buffers from construction on and are never written.
 func (s *Stepper) combine(tab [][]coef, st stage, u []complex128) {
 	m := s.m
+	nk := m.g.Nkx()
 	for f := 0; f < m.nf; f++ {
-		lo := f * m.stride
 		t := tab[m.fieldOp[f]]
-		uf := u[lo : lo+m.n]
-		nu, acc, sa, nb := s.nu[lo:lo+m.n], s.acc[lo:lo+m.n], s.sa[lo:lo+m.n], s.nb[lo:lo+m.n]
-		kIdx := s.kIdx[:m.n]
-		switch st {
-		case stageA:
-			for i, k := range kIdx {
-				c := &t[k]
-				x, n := uf[i], nu[i]
-				sa[i] = complex(c.e2*real(x)+c.q*real(n), c.e2*imag(x)+c.q*imag(n))
-				acc[i] = complex(c.e*real(x)+c.f1*real(n), c.e*imag(x)+c.f1*imag(n))
-			}
-		case stageB:
-			for i, k := range kIdx {
-				c := &t[k]
-				x, n := uf[i], nb[i]
-				uf[i] = complex(c.e2*real(x)+c.q*real(n), c.e2*imag(x)+c.q*imag(n))
-				f2 := 2 * c.f2
-				acc[i] += complex(f2*real(n), f2*imag(n))
-			}
-		case stageC:
-			for i, k := range kIdx {
-				c := &t[k]
-				a, n, n0 := sa[i], nb[i], nu[i]
-				r, im := 2*real(n)-real(n0), 2*imag(n)-imag(n0)
-				sa[i] = complex(c.e2*real(a)+c.q*r, c.e2*imag(a)+c.q*im)
-				f2 := 2 * c.f2
-				acc[i] += complex(f2*real(n), f2*imag(n))
-			}
-		case stageD:
-			for i, k := range kIdx {
-				c := &t[k]
-				n := nb[i]
-				uf[i] = acc[i] + complex(c.f3*real(n), c.f3*imag(n))
+		for _, j := range m.rows {
+			lo := f*m.stride + j*nk
+			hi := lo + m.ncol
+			kIdx := s.kIdx[j*nk : j*nk+m.ncol]
+			uf, nu, acc, sa, nb := u[lo:hi], s.nu[lo:hi], s.acc[lo:hi], s.sa[lo:hi], s.nb[lo:hi]
+			switch st {
+			case stageA:
+				for i, k := range kIdx {
+					c := &t[k]
+					x, n := uf[i], nu[i]
+					sa[i] = complex(c.e2*real(x)+c.q*real(n), c.e2*imag(x)+c.q*imag(n))
+					acc[i] = complex(c.e*real(x)+c.f1*real(n), c.e*imag(x)+c.f1*imag(n))
+				}
+			case stageB:
+				for i, k := range kIdx {
+					c := &t[k]
+					x, n := uf[i], nb[i]
+					uf[i] = complex(c.e2*real(x)+c.q*real(n), c.e2*imag(x)+c.q*imag(n))
+					f2 := 2 * c.f2
+					acc[i] += complex(f2*real(n), f2*imag(n))
+				}
+			case stageC:
+				for i, k := range kIdx {
+					c := &t[k]
+					a, n, n0 := sa[i], nb[i], nu[i]
+					r, im := 2*real(n)-real(n0), 2*imag(n)-imag(n0)
+					sa[i] = complex(c.e2*real(a)+c.q*r, c.e2*imag(a)+c.q*im)
+					f2 := 2 * c.f2
+					acc[i] += complex(f2*real(n), f2*imag(n))
+				}
+			case stageD:
+				for i, k := range kIdx {
+					c := &t[k]
+					n := nb[i]
+					uf[i] = acc[i] + complex(c.f3*real(n), c.f3*imag(n))
+				}
 			}
 		}
 	}

@@ -87,6 +87,8 @@ type Model struct {
 	s1, s2, s3, s4, s5      []complex128
 	cube                    []complex128 // (φ³)^
 	zero                    []float64    // a real field of zeros, never written
+	rows                    []int        // spectral rows with modes the 2/3 rule keeps
+	ncol                    int          // columns 0 … ncol−1 are kept in those rows
 	rhsViews                [][]complex128
 	gamma                   []float64 // Γ₊(k) + Γ₋(k) per spectral index (diagnostics)
 	dfx, dfy, dkx, dky      []complex128
@@ -191,6 +193,13 @@ func NewModel(p Params, plan spectral.Plan, fs FlowSolver) (*Model, error) {
 	}
 	for _, s := range []*[]complex128{&m.s1, &m.s2, &m.s3, &m.s4, &m.s5, &m.cube, &m.dfx, &m.dfy, &m.dkx, &m.dky, &m.dux, &m.duy} {
 		*s = make([]complex128, ns)
+	}
+	kxMax, kyMax := g.DealiasLimits()
+	m.ncol = kxMax + 1
+	for j := 0; j < g.Ny; j++ {
+		if my := g.ModeY(j); my >= -kyMax && my <= kyMax {
+			m.rows = append(m.rows, j)
+		}
 	}
 	m.gamma = make([]float64, ns)
 	for idx, k2 := range g.K2() {
@@ -570,14 +579,15 @@ func (m *Model) scalarTerm(d []complex128, s, vx, vy []float64, on bool) {
 	m.fluxInto(d, m.t1, m.t2, false)
 }
 
-// negDiv sets d to −(i kx fx + i ky fy), or adds that to d if add.
-func negDiv(g *spectral.Grid, d, fx, fy []complex128, add bool) {
-	kx, ky := g.Kx(), g.Ky()
-	nk := g.Nkx()
-	for j := 0; j < g.Ny; j++ {
+// negDiv sets d to −(i kx fx + i ky fy), or adds that to d if add, on the
+// modes the 2/3 rule keeps (the others are discarded by the integrator).
+func (m *Model) negDiv(d, fx, fy []complex128, add bool) {
+	kx, ky := m.g.Kx(), m.g.Ky()
+	nk := m.g.Nkx()
+	for _, j := range m.rows {
 		row := j * nk
 		b := ky[j]
-		for i := 0; i < nk; i++ {
+		for i := 0; i < m.ncol; i++ {
 			a := kx[i]
 			x, y := fx[row+i], fy[row+i]
 			// −i(a x + b y)
@@ -656,7 +666,7 @@ func quadKernel(fxa, fya, fxb, fyb, ra, rb, x, y, c, vx, vy, w, e11, e12 []float
 func (m *Model) fluxInto(d []complex128, fx, fy []float64, add bool) {
 	m.fwd(m.s1, fx)
 	m.fwd(m.s2, fy)
-	negDiv(m.g, d, m.s1, m.s2, add)
+	m.negDiv(d, m.s1, m.s2, add)
 }
 
 // modeTerm sets da, db to the explicit part of the equation of the angular
@@ -764,10 +774,10 @@ func (m *Model) propulsion(dst, src []complex128) {
 		if n > 0 {
 			db = field(dst, 2*n)
 		}
-		for j := 0; j < g.Ny; j++ {
+		for _, j := range m.rows {
 			row := j * nk
 			y := ky[j]
-			for i := 0; i < nk; i++ {
+			for i := 0; i < m.ncol; i++ {
 				idx := row + i
 				x := kx[i]
 				var apv, bpv, bmv complex128
