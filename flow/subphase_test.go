@@ -10,7 +10,7 @@ import (
 // layerTraction solves the subphase boundary-value problem for the
 // transverse mode by second-order finite differences and returns
 // Γ_h = η·|v'(0)|. In the layer the velocity is v(z) e^{ikx} ŷ with zero
-// pressure, so Stokes' equation reduces to v'' = k² v, with v(0) = 1 at the
+// pressure, so Stokes' equation reduces to v” = k² v, with v(0) = 1 at the
 // membrane and v(H) = 0 at a no-slip wall, v'(H) = 0 at a free-slip
 // bottom; a deep layer is truncated at z = 20/k with v = 0 there, which
 // changes Γ by a relative 2e^{−40} (negligible). The interior stencil
