@@ -12,9 +12,10 @@ import (
 // allocates nothing. A Solver is read-only after construction and may be
 // shared between goroutines.
 type Solver struct {
-	g    *spectral.Grid
-	m    Membrane
-	invD []float64 // 1/D(|k|) per spectral index; at k = 0, 1/D(0) or 0 if D(0) = 0
+	g     *spectral.Grid
+	m     Membrane
+	invD  []float64 // 1/D(|k|) per spectral index; at k = 0, 1/D(0) or 0 if D(0) = 0
+	gamma []float64 // Γ₊(|k|) + Γ₋(|k|) per spectral index; at k = 0 the limit
 }
 
 // NewSolver returns the solver for membrane m on grid g. It returns an
@@ -23,10 +24,12 @@ func NewSolver(g *spectral.Grid, m Membrane) (*Solver, error) {
 	if err := m.Validate(); err != nil {
 		return nil, err
 	}
-	s := &Solver{g: g, m: m, invD: make([]float64, g.SpecLen())}
+	s := &Solver{g: g, m: m, invD: make([]float64, g.SpecLen()), gamma: make([]float64, g.SpecLen())}
 	k2 := g.K2()
 	for idx := range s.invD {
-		d := m.D(math.Sqrt(k2[idx]))
+		k := math.Sqrt(k2[idx])
+		s.gamma[idx] = m.Upper.Gamma(k) + m.Lower.Gamma(k)
+		d := m.D(k)
 		if d > 0 {
 			s.invD[idx] = 1 / d
 		}
@@ -46,6 +49,14 @@ func (s *Solver) Membrane() Membrane { return s.m }
 // InvD returns 1/D(k) per spectral index (0 where D = 0). The slice is
 // shared and must not be modified.
 func (s *Solver) InvD() []float64 { return s.invD }
+
+// GammaSum returns the subphase traction Γ₊(|k|) + Γ₋(|k|) of both sides
+// per spectral index, with the k → 0 limit (η/H of each Wall side) at
+// index 0. Together with η_m k² (from [spectral.Grid.K2]) and ξ it makes
+// up D(k); a preconditioner or an energy budget reads it instead of
+// re-evaluating the hyperbolic functions. The slice is shared and must not
+// be modified.
+func (s *Solver) GammaSum() []float64 { return s.gamma }
 
 // Solve sets (ux, uy) to the velocity coefficients driven by the force
 // density coefficients (fx, fy): û = P f̂/D for k ≠ 0. The k = 0 mode is
