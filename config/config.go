@@ -17,19 +17,55 @@ import (
 // A Config is a value: copies are independent. Build one with Default,
 // Load or Parse, change it with Set, and check it with Validate.
 type Config struct {
-	Temperature Temperature     `key:"temperature" default:"300 K" range:"(0,inf)" doc:"Absolute temperature T. It sets the energy unit kT = k_B·T (k_B = 1.380649e-23 J/K, exact) of every value given in kT."`
-	Membrane    MembraneSection `key:"membrane" doc:"The membrane: a flat, incompressible two-dimensional fluid."`
-	Subphase    SubphaseSection `key:"subphase" doc:"The fluid on each side of the membrane. The upper and lower sides are interchangeable; two names keep a configuration readable."`
-	Grid        GridSection     `key:"grid" doc:"The periodic box and its grid."`
-	Units       UnitsSection    `key:"units" doc:"The reduced units the solvers work in (see Reduce). They change no physics, only the scale of the numbers inside the solver and in reduced outputs."`
+	Temperature Temperature       `key:"temperature" default:"300 K" range:"(0,inf)" doc:"Absolute temperature T. It sets the energy unit kT = k_B·T (k_B = 1.380649e-23 J/K, exact) of every value given in kT."`
+	Membrane    MembraneSection   `key:"membrane" doc:"The membrane: a flat, incompressible two-dimensional fluid."`
+	Subphase    SubphaseSection   `key:"subphase" doc:"The fluid on each side of the membrane. The upper and lower sides are interchangeable; two names keep a configuration readable."`
+	Grid        GridSection       `key:"grid" doc:"The periodic box and its grid."`
+	Units       UnitsSection      `key:"units" doc:"The reduced units the solvers work in (see Reduce). They change no physics, only the scale of the numbers inside the solver and in reduced outputs."`
+	Inclusions  InclusionsSection `key:"inclusions" doc:"The active inclusions (motor proteins, pumps, trapped swimmers): force dipoles with an orientation, stirring the membrane (memix run, memix stability)."`
+	Lipids      LipidsSection     `key:"lipids" doc:"The lipid composition φ, advected by the membrane flow (memix run)."`
+	Time        TimeSection       `key:"time" doc:"Time stepping of memix run."`
+	Output      OutputSection     `key:"output" doc:"What memix run writes, and how often."`
+	Initial     InitialSection    `key:"initial" doc:"The initial state of memix run."`
 
 	meta *meta // provenance; immutable once built, shared by copies
 }
 
 // MembraneSection is the key group "membrane".
 type MembraneSection struct {
-	Viscosity SurfaceViscosity `key:"viscosity" default:"1e-9 Pa*s*m" range:"(0,inf)" doc:"Surface shear viscosity η_m (a 2D viscosity). Fluid lipid bilayers: about 1e-10 to 1e-9 Pa*s*m, with reported values spanning orders of magnitude (bounds from Waugh, Biophys. J. 38, 29 (1982)). 1 sP (surface poise) = 1e-3 Pa*s*m."`
-	Friction  Friction         `key:"friction" default:"0 Pa*s/m" range:"[0,inf)" doc:"Uniform substrate friction ξ: traction per membrane area per velocity. A bilayer over a water gap h has ξ ≈ η/h, about 1e6 Pa*s/m for h = 1 nm (order of magnitude). 0 for a free membrane."`
+	Viscosity SurfaceViscosity           `key:"viscosity" default:"1e-9 Pa*s*m" range:"(0,inf)" doc:"Surface shear viscosity η_m (a 2D viscosity). Fluid lipid bilayers: about 1e-10 to 1e-9 Pa*s*m, with reported values spanning orders of magnitude (bounds from Waugh, Biophys. J. 38, 29 (1982)). 1 sP (surface poise) = 1e-3 Pa*s*m."`
+	Friction  Friction                   `key:"friction" default:"0 Pa*s/m" range:"[0,inf)" doc:"Uniform substrate friction ξ: traction per membrane area per velocity. A bilayer over a water gap h has ξ ≈ η/h, about 1e6 Pa*s/m for h = 1 nm (order of magnitude). 0 for a free membrane."`
+	Rule      string                     `key:"viscosity_rule" default:"constant" enum:"constant|log-linear|linear" doc:"How the membrane viscosity depends on the lipid composition φ (needs lipids.model): constant (membrane.viscosity everywhere), log-linear (ln η_m = x ln η₊ + (1 − x) ln η₋ with x = (1 + φ)/2; the Grunberg–Nissan mixing rule, Nature 164, 799 (1949), from memory) or linear (η_m = x η₊ + (1 − x) η₋). φ is clamped to [−1, 1] first. With a rule other than constant the flow is solved iteratively."`
+	Plus      Optional[SurfaceViscosity] `key:"viscosity_plus" range:"(0,inf)" fallback:"membrane.viscosity" doc:"Membrane viscosity η₊ of the phase φ = +1 (e.g. the ordered phase, often 10 to 100 times more viscous than the disordered one)."`
+	Minus     Optional[SurfaceViscosity] `key:"viscosity_minus" range:"(0,inf)" fallback:"membrane.viscosity" doc:"Membrane viscosity η₋ of the phase φ = −1."`
+	Tolerance float64                    `key:"solver_tolerance" default:"1e-8" range:"(0,0.01]" doc:"Relative residual at which the iterative flow solve (composition-dependent viscosity) stops."`
+	MaxIter   int                        `key:"solver_iterations" default:"1000" range:"[1,1000000]" doc:"Iteration cap of the iterative flow solve; reaching it stops the run with an error naming the residual and the viscosity contrast."`
+}
+
+// Variable reports whether the membrane viscosity depends on composition.
+func (m MembraneSection) Variable() bool { return m.Rule != "constant" }
+
+// PhaseViscosities returns η₊ and η₋ (membrane.viscosity where not given).
+func (m MembraneSection) PhaseViscosities() (plus, minus SurfaceViscosity) {
+	return m.Plus.Or(m.Viscosity), m.Minus.Or(m.Viscosity)
+}
+
+func (m MembraneSection) check(at string, root *Config, report func(*FieldError)) {
+	if m.Variable() && root.Lipids.Model == "none" {
+		report(&FieldError{Key: at + ".viscosity_rule", Value: m.Rule, Range: "constant without lipids",
+			Err: fmt.Errorf("%w: a composition-dependent viscosity needs lipids.model passive or phase", ErrConflict)})
+	}
+	if !m.Variable() {
+		for _, k := range []struct {
+			name string
+			v    Optional[SurfaceViscosity]
+		}{{"viscosity_plus", m.Plus}, {"viscosity_minus", m.Minus}} {
+			if k.v.Valid {
+				report(&FieldError{Key: at + "." + k.name, Value: k.v.V.String(), Range: "not set with viscosity_rule constant",
+					Err: fmt.Errorf("%w: phase viscosities are used only by the log-linear and linear rules; set membrane.viscosity_rule", ErrConflict)})
+			}
+		}
+	}
 }
 
 // SubphaseSection is the key group "subphase".
@@ -61,7 +97,7 @@ type GridSection struct {
 // UnitsSection is the key group "units".
 type UnitsSection struct {
 	Length Optional[Length] `key:"length" range:"(0,inf)" fallback:"grid.lx, the box length along x" doc:"Length unit ℓ₀ of the reduced units."`
-	Time   Optional[Time]   `key:"time" range:"(0,inf)" fallback:"ℓ₀²·η_m/(k_B·T), which makes the reduced kT 1" doc:"Time unit τ₀ of the reduced units. The default is a viscous-thermal time; a run may prefer an active time. The unit of surface viscosity is always membrane.viscosity (the reduced η_m is 1) and the unit of temperature is temperature."`
+	Time   Optional[Time]   `key:"time" range:"(0,inf)" fallback:"the active time η_m/|σ₀c₀| with active inclusions, else the lipid diffusion time ℓ₀²/D_φ, else ℓ₀²·η_m/(k_B·T)" doc:"Time unit τ₀ of the reduced units. The unit of surface viscosity is always membrane.viscosity (the reduced η_m is 1) and the unit of temperature is temperature."`
 }
 
 // Optional is a key without a fixed default. Valid reports whether the
@@ -160,12 +196,21 @@ func (c Config) LengthUnit() Length {
 	return c.Units.Length.Or(lx)
 }
 
-// TimeUnit returns τ₀: units.time, or ℓ₀²·η_m/(k_B·T).
+// TimeUnit returns τ₀: units.time if given; else the active time
+// η_m/|σ₀c₀| when the inclusions are active; else the lipid diffusion time
+// ℓ₀²/D_φ when there are lipids; else the viscous-thermal time
+// ℓ₀²·η_m/(k_B·T).
 func (c Config) TimeUnit() Time {
 	if c.Units.Time.Valid {
 		return c.Units.Time.V
 	}
 	l := float64(c.LengthUnit())
+	switch {
+	case c.Inclusions.Active():
+		return Time(float64(c.Membrane.Viscosity) / math.Abs(float64(c.ActiveStress())))
+	case c.Lipids.Model != "none":
+		return Time(l * l / float64(c.Lipids.Diffusion))
+	}
 	return Time(l * l * float64(c.Membrane.Viscosity) / float64(c.KT()))
 }
 

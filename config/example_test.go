@@ -14,6 +14,7 @@ membrane: {viscosity: 1e-9 Pa*s*m}
 subphase:
   lower: {kind: wall, depth: 100 nm}
 grid: {n: 128, box: 10 um}
+inclusions: {dipole: 20 kT, density: 100 um^-2}
 `), "example.yaml")
 	if err != nil {
 		fmt.Println(err)
@@ -23,14 +24,16 @@ grid: {n: 128, box: 10 um}
 	fmt.Println("Saffman–Delbrück length:", s.SaffmanDelbruck)
 	fmt.Println("screening length of the wall:", s.WallLower)
 	r, _ := config.Reduce(c)
-	fmt.Printf("reduced: η_m = %g, η = %.4g, H = %.4g, box %g×%g, kT = %.4f\n",
-		r.Membrane.Viscosity, r.Membrane.Lower.Viscosity, r.Membrane.Lower.Depth, r.Grid.Lx, r.Grid.Ly, r.KT)
+	fmt.Printf("reduced: η_m = %g, η = %.4g, H = %.4g, box %g×%g\n",
+		r.Membrane.Viscosity, r.Membrane.Lower.Viscosity, r.Membrane.Lower.Depth, r.Grid.Lx, r.Grid.Ly)
+	fmt.Println("time unit (active time η_m/|σ₀c₀|):", r.Units.Time)
 
 	_, err = c.Set("membrane.viscosity", "0.89 mPa*s")
 	fmt.Println(err)
 	// Output:
 	// Saffman–Delbrück length: 561.8 nm
 	// screening length of the wall: 335.2 nm
-	// reduced: η_m = 1, η = 8.9, H = 0.01, box 1×1, kT = 1.0000
+	// reduced: η_m = 1, η = 8.9, H = 0.01, box 1×1
+	// time unit (active time η_m/|σ₀c₀|): 120.7 µs
 	// membrane.viscosity = "0.89 mPa*s": wrong dimension: expected a surface viscosity, e.g. Pa*s*m or sP; got a viscosity (valid: > 0 Pa*s*m)
 }
