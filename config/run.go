@@ -3,6 +3,9 @@ package config
 import (
 	"fmt"
 	"math"
+
+	"github.com/memix-sim/memix/flow"
+	"github.com/memix-sim/memix/stability"
 )
 
 // The sections below configure the time-dependent run (memix run): the
@@ -155,4 +158,65 @@ func (c Config) ActiveStress() Tension {
 		return 0
 	}
 	return Tension(c.Inclusions.Sign() * float64(c.Inclusions.Dipole) * float64(c.Inclusions.Density))
+}
+
+// Diffusivities returns the inclusions' rotational and translational
+// diffusivities in SI units: the values given, or k_B·T over the drag of a
+// disk of inclusions.radius in this membrane (flow.InclusionMobility, the
+// computation of memix mobility). how says where each value comes from.
+// It fails when a diffusivity must be computed and the membrane gives no
+// finite drag (no subphase and no friction: give the value instead).
+func (c Config) Diffusivities() (dr Rate, dt Diffusivity, how [2]string, err error) {
+	in := c.Inclusions
+	how = [2]string{"given (inclusions.rot_diffusion)", "given (inclusions.trans_diffusion)"}
+	if in.RotDiff.Valid && in.TransDiff.Valid {
+		return in.RotDiff.V, in.TransDiff.V, how, nil
+	}
+	mob, merr := flow.InclusionMobility(c.FlowMembrane(), float64(in.Radius), float64(c.KT()))
+	if !in.RotDiff.Valid {
+		if mob.Rotation.Drag <= 0 || math.IsNaN(mob.Rotation.Diffusivity) {
+			return 0, 0, how, fmt.Errorf("inclusions.rot_diffusion: cannot compute it from inclusions.radius = %s: %v; give it explicitly", in.Radius, merr)
+		}
+		dr = Rate(mob.Rotation.Diffusivity)
+		how[0] = fmt.Sprintf("k_BT/λ_R of a disk of radius %s (%s)", in.Radius, mob.Rotation.Method)
+	} else {
+		dr = in.RotDiff.V
+	}
+	if !in.TransDiff.Valid {
+		if merr != nil {
+			return 0, 0, how, fmt.Errorf("inclusions.trans_diffusion: cannot compute it from inclusions.radius = %s: %w; give it explicitly", in.Radius, merr)
+		}
+		dt = Diffusivity(mob.Translation.Diffusivity)
+		how[1] = fmt.Sprintf("k_BT/λ_T of a disk of radius %s (%s)", in.Radius, mob.Translation.Method)
+	} else {
+		dt = in.TransDiff.V
+	}
+	return dr, dt, how, nil
+}
+
+// Stability returns the linear-stability parameters of the configured
+// inclusions and lipids in SI units (rates in 1/s, wavenumbers in 1/m):
+// the active-inclusion model and, for lipids.model = phase, the
+// Cahn–Hilliard branch about initial.mean (ok false otherwise).
+func (c Config) Stability() (act stability.Active, ch stability.CahnHilliard, chOK bool, err error) {
+	dr, dt, _, err := c.Diffusivities()
+	if err != nil {
+		return act, ch, false, err
+	}
+	act = stability.Active{
+		Membrane:  c.FlowMembrane(),
+		Stress:    float64(c.ActiveStress()),
+		Alignment: c.Inclusions.Alignment,
+		RotDiff:   float64(dr),
+		TransDiff: float64(dt),
+		Speed:     float64(c.Inclusions.Speed),
+	}
+	if c.Inclusions.Model == "kinetic" {
+		act.Modes = max(c.Inclusions.Harmonics, 4)
+	}
+	if c.Lipids.Model == "phase" {
+		ch = stability.CahnHilliard{Mobility: float64(c.Lipids.Diffusion), Width: float64(c.Lipids.Interface), Mean: c.Initial.Mean}
+		chOK = true
+	}
+	return act, ch, chOK, nil
 }
