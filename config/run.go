@@ -196,7 +196,8 @@ func (c Config) Diffusivities() (dr Rate, dt Diffusivity, how [2]string, err err
 
 // Stability returns the linear-stability parameters of the configured
 // inclusions and lipids in SI units (rates in 1/s, wavenumbers in 1/m):
-// the active-inclusion model and, for lipids.model = phase, the
+// the active-inclusion model (angular truncation left to the convergence
+// loop of package stability) and, for lipids.model = phase, the
 // Cahn–Hilliard branch about initial.mean (ok false otherwise).
 func (c Config) Stability() (act stability.Active, ch stability.CahnHilliard, chOK bool, err error) {
 	dr, dt, _, err := c.Diffusivities()
@@ -210,9 +211,6 @@ func (c Config) Stability() (act stability.Active, ch stability.CahnHilliard, ch
 		RotDiff:   float64(dr),
 		TransDiff: float64(dt),
 		Speed:     float64(c.Inclusions.Speed),
-	}
-	if c.Inclusions.Model == "kinetic" {
-		act.Modes = max(c.Inclusions.Harmonics, 4)
 	}
 	if c.Lipids.Model == "phase" {
 		ch = stability.CahnHilliard{Mobility: float64(c.Lipids.Diffusion), Width: float64(c.Lipids.Interface), Mean: c.Initial.Mean}
