@@ -161,10 +161,14 @@ func mixNormFigures(sc *Scan, t *Table) []figure {
 	byName := map[string][]curve{}
 	units := map[string][2]string{}
 	var order []string
+	var finished []Row
 	for _, r := range t.Rows {
-		if r.State != Finished {
-			continue
+		if r.State == Finished {
+			finished = append(finished, r)
 		}
+	}
+	vary := varying(finished)
+	for _, r := range finished {
 		s, err := ReadSeries(filepath.Join(sc.OutDir(r.ID), seriesFile))
 		if err != nil || s.Time < 0 {
 			continue
@@ -185,7 +189,7 @@ func mixNormFigures(sc *Scan, t *Table) []figure {
 				order = append(order, name)
 				units[name] = [2]string{s.Units[s.Time], s.Units[j]}
 			}
-			byName[name] = append(byName[name], curve{(&Point{Params: r.Params}).Label(), xy})
+			byName[name] = append(byName[name], curve{label(r.Params, vary), xy})
 		}
 	}
 	var figs []figure
@@ -195,13 +199,14 @@ func mixNormFigures(sc *Scan, t *Table) []figure {
 		p.Title.Text = name + " of each point (model predictions)"
 		p.X.Label.Text = withUnit("time", units[name][0])
 		p.Y.Label.Text = withUnit(name, units[name][1])
-		positive := true
+		// Logarithmic when all values are positive and span a decade.
+		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, c := range cs {
 			for _, q := range c.xy {
-				positive = positive && q.Y > 0
+				lo, hi = math.Min(lo, q.Y), math.Max(hi, q.Y)
 			}
 		}
-		if positive {
+		if lo > 0 && hi >= 10*lo {
 			p.Y.Scale = plot.LogScale{}
 			p.Y.Tick.Marker = plot.LogTicks{Prec: -1}
 		}
@@ -276,6 +281,7 @@ func summaryFigures(t *Table, conv Converter) []figure {
 	if len(rows) == 0 {
 		return nil
 	}
+	vary := varying(rows)
 	var figs []figure
 	for _, a := range t.Axes {
 		if a.Seed {
@@ -312,19 +318,17 @@ func summaryFigures(t *Table, conv Converter) []figure {
 			logX = lo > 0 && hi/lo >= 100
 		}
 		// Group by the other (non-seed) axes.
+		others := map[string]bool{}
+		for _, b := range t.Axes {
+			if b.Key != a.Key && !b.Seed && vary[b.Key] {
+				others[b.Key] = true
+			}
+		}
 		groupOf := make([]string, len(rows))
 		var groups []string
 		gi := map[string]bool{}
 		for i, r := range rows {
-			var parts []string
-			for _, b := range t.Axes {
-				if b.Key == a.Key || b.Seed {
-					continue
-				}
-				v, _ := (&Point{Params: r.Params}).Param(b.Key)
-				parts = append(parts, shortKey(b.Key)+"="+Param{Value: v}.Text())
-			}
-			g := strings.Join(parts, ", ")
+			g := label(r.Params, others)
 			groupOf[i] = g
 			if !gi[g] {
 				gi[g] = true
@@ -332,6 +336,9 @@ func summaryFigures(t *Table, conv Converter) []figure {
 			}
 		}
 		for _, k := range t.ResultKeys {
+			if constant(rows, k) {
+				continue
+			}
 			p := plot.New()
 			p.Title.Text = k + " against " + shortKey(a.Key) + " (model predictions)"
 			p.X.Label.Text = withUnit(a.Key, unit)
@@ -392,4 +399,48 @@ func summaryFigures(t *Table, conv Converter) []figure {
 		}
 	}
 	return figs
+}
+
+// constant reports whether result k takes at most one value over rows.
+func constant(rows []Row, k string) bool {
+	first, seen := 0.0, false
+	for _, r := range rows {
+		v, ok := r.Results[k]
+		if !ok {
+			continue
+		}
+		if seen && v != first {
+			return false
+		}
+		first, seen = v, true
+	}
+	return true
+}
+
+// varying returns the keys whose value differs between rows.
+func varying(rows []Row) map[string]bool {
+	first := map[string]string{}
+	out := map[string]bool{}
+	for _, r := range rows {
+		for _, p := range r.Params {
+			v := p.Text()
+			if f, ok := first[p.Key]; !ok {
+				first[p.Key] = v
+			} else if f != v {
+				out[p.Key] = true
+			}
+		}
+	}
+	return out
+}
+
+// label is "k=v, k=v" over the given keys, in parameter order.
+func label(params []Param, keys map[string]bool) string {
+	var parts []string
+	for _, p := range params {
+		if keys[p.Key] {
+			parts = append(parts, shortKey(p.Key)+"="+p.Text())
+		}
+	}
+	return strings.Join(parts, ", ")
 }

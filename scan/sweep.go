@@ -165,6 +165,7 @@ func ParseSweep(text []byte, dir string, conv Converter) (*Sweep, error) {
 	top := doc.Content[0]
 	var errs []error
 	var axesNode, zipNode, repNode *yaml.Node
+	var order []string // "axes" and "zip" in the order written
 	mode := "product"
 	for i := 0; i+1 < len(top.Content); i += 2 {
 		k, v := top.Content[i].Value, top.Content[i+1]
@@ -181,8 +182,10 @@ func ParseSweep(text []byte, dir string, conv Converter) (*Sweep, error) {
 			}
 		case "axes":
 			axesNode = v
+			order = append(order, k)
 		case "zip":
 			zipNode = v
+			order = append(order, k)
 		case "replicates":
 			repNode = v
 		default:
@@ -193,27 +196,28 @@ func ParseSweep(text []byte, dir string, conv Converter) (*Sweep, error) {
 		errs = append(errs, errors.New("sweep: key base is missing: give a configuration file path or an inline mapping"))
 	}
 
-	if axesNode != nil {
-		axes, err := s.readAxes(axesNode, "axes", conv)
-		errs = append(errs, err...)
-		if mode == "zip" && len(axes) > 0 {
-			s.groups = append(s.groups, group{axes: axes})
-		} else {
-			for _, a := range axes {
-				s.groups = append(s.groups, group{axes: []axis{a}})
+	for _, which := range order {
+		if which == "axes" {
+			axes, err := s.readAxes(axesNode, "axes", conv)
+			errs = append(errs, err...)
+			if mode == "zip" && len(axes) > 0 {
+				s.groups = append(s.groups, group{axes: axes})
+			} else {
+				for _, a := range axes {
+					s.groups = append(s.groups, group{axes: []axis{a}})
+				}
 			}
+			continue
 		}
-	}
-	if zipNode != nil {
 		if zipNode.Kind != yaml.SequenceNode {
 			errs = append(errs, fmt.Errorf("sweep: zip (line %d) must be a list of mappings of axes", zipNode.Line))
-		} else {
-			for gi, g := range zipNode.Content {
-				axes, err := s.readAxes(g, fmt.Sprintf("zip[%d]", gi), conv)
-				errs = append(errs, err...)
-				if len(axes) > 0 {
-					s.groups = append(s.groups, group{axes: axes})
-				}
+			continue
+		}
+		for gi, g := range zipNode.Content {
+			axes, err := s.readAxes(g, fmt.Sprintf("zip[%d]", gi), conv)
+			errs = append(errs, err...)
+			if len(axes) > 0 {
+				s.groups = append(s.groups, group{axes: axes})
 			}
 		}
 	}

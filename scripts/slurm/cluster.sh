@@ -7,8 +7,8 @@
 #                          start munged, slurmctld and slurmd, wait until the
 #                          node is idle; the daemons' PIDs go to DIR/pids.
 #                          Prints "export SLURM_CONF=DIR/slurm.conf".
-#   cluster.sh stop DIR    stop the daemons listed in DIR/pids (slurmd,
-#                          slurmctld, munged), each by its PID; waits for them.
+#   cluster.sh stop DIR    stop the daemons listed in DIR/pids by their PIDs
+#                          (slurmd and slurmctld, then munged); waits for them.
 #   cluster.sh exec DIR -- CMD ...
 #                          start, run CMD with SLURM_CONF set, stop (always).
 #
@@ -32,24 +32,44 @@ usage() {
 	exit 2
 }
 
-# stop_daemons DIR: TERM each recorded PID in order, wait up to 10 s each,
-# then KILL. Only PIDs that this script recorded are signalled.
+# alive PID: the process exists and is not a zombie (in "exec" mode the
+# daemons are this shell's children and stay zombies until it exits).
+alive() {
+	local st
+	st="$(sed -n 's/.*) \(.\).*/\1/p' "/proc/$1/stat" 2>/dev/null)"
+	[ -n "$st" ] && [ "$st" != Z ]
+}
+
+# stop_daemons DIR: SIGTERM the recorded PIDs, slurmd and slurmctld together
+# and then munged (the Slurm daemons may still need it while they stop);
+# each gets 10 s before SIGKILL. Only PIDs that this script recorded are
+# signalled.
 stop_daemons() {
-	local dir="$1" name pid i
+	local dir="$1" group name pid i any
 	[ -f "$dir/pids" ] || return 0
-	for name in slurmd slurmctld munged; do
-		pid="$(awk -v n="$name" '$1 == n { print $2 }' "$dir/pids")"
-		[ -n "$pid" ] || continue
-		kill -0 "$pid" 2>/dev/null || continue
-		kill -TERM "$pid" 2>/dev/null || true
-		for ((i = 0; i < 100; i++)); do
-			kill -0 "$pid" 2>/dev/null || break
-			sleep 0.1
+	for group in "slurmd slurmctld" "munged"; do
+		local pids=()
+		for name in $group; do
+			pid="$(awk -v n="$name" '$1 == n { print $2 }' "$dir/pids")"
+			[ -n "$pid" ] || continue
+			alive "$pid" || continue
+			kill -TERM "$pid" 2>/dev/null || true
+			pids+=("$pid")
 		done
-		if kill -0 "$pid" 2>/dev/null; then
-			echo "slurm cluster: $name (pid $pid) ignored SIGTERM for 10 s; sending SIGKILL" >&2
-			kill -KILL "$pid" 2>/dev/null || true
-		fi
+		for ((i = 0; i < 200; i++)); do
+			any=0
+			for pid in "${pids[@]}"; do
+				if alive "$pid"; then any=1; fi
+			done
+			[ "$any" -eq 1 ] || break
+			sleep 0.05
+		done
+		for pid in "${pids[@]}"; do
+			if alive "$pid"; then
+				echo "slurm cluster: pid $pid ignored SIGTERM for 10 s; sending SIGKILL" >&2
+				kill -KILL "$pid" 2>/dev/null || true
+			fi
+		done
 	done
 	rm -f "$dir/pids"
 }
