@@ -214,7 +214,7 @@ func runPoint(ctx context.Context, sc *Scan, p Point, opt LocalOptions, pr *prog
 	if !ok {
 		res.State = Running
 		pr.move(Pending, Running, 0)
-		pr.move(Running, Busy, 0)
+		pr.move(Running, busy, 0)
 		return res
 	}
 	defer lock.Close()
@@ -224,6 +224,14 @@ func runPoint(ctx context.Context, sc *Scan, p Point, opt LocalOptions, pr *prog
 		return res
 	}
 	d := inspect(pd)
+	if d.running != nil && d.running.alive() {
+		// A memix left running by a runner that died (it released the
+		// lock but not the point).
+		res.State = Running
+		pr.move(Pending, Running, 0)
+		pr.move(Running, busy, 0)
+		return res
+	}
 	act := d.next()
 	if act == actSkip { // finished by another runner since the listing
 		res.State, res.already = Finished, true
@@ -237,11 +245,6 @@ func runPoint(ctx context.Context, sc *Scan, p Point, opt LocalOptions, pr *prog
 	}
 	res.Resumed = act == actResume
 	_ = os.Remove(filepath.Join(pd, failureFile)) // its text is in failures.log
-	host, _ := os.Hostname()
-	if err := writeFileAtomic(filepath.Join(pd, runningFile),
-		[]byte(fmt.Sprintf("kind=local\nhost=%s\npid=%d\nsince=%s\n", host, os.Getpid(), time.Now().UTC().Format(time.RFC3339)))); err != nil {
-		return fail("cannot write the running marker: " + err.Error())
-	}
 	defer os.Remove(filepath.Join(pd, runningFile))
 
 	stdout, err := os.OpenFile(filepath.Join(pd, stdoutLog), os.O_WRONLY|os.O_CREATE|os.O_APPEND, 0o644)
@@ -270,7 +273,15 @@ func runPoint(ctx context.Context, sc *Scan, p Point, opt LocalOptions, pr *prog
 	cmd.WaitDelay = opt.StopGrace
 	pr.move(Pending, Running, 0)
 	t0 := time.Now()
-	runErr := cmd.Run()
+	runErr := cmd.Start()
+	if runErr == nil {
+		// The marker names memix itself, so Status can tell whether the
+		// run is alive even if this process dies.
+		host, _ := os.Hostname()
+		_ = writeFileAtomic(filepath.Join(pd, runningFile),
+			[]byte(fmt.Sprintf("kind=local\nhost=%s\npid=%d\nsince=%s\n", host, cmd.Process.Pid, t0.UTC().Format(time.RFC3339))))
+		runErr = cmd.Wait()
+	}
 	res.Wall = time.Since(t0)
 	stderr.Close()
 
@@ -342,8 +353,8 @@ func recordFailure(pointDir, msg string) {
 	}
 }
 
-// Busy is a progress-only state: held by another runner.
-const Busy State = "busy"
+// busy is a progress-only state: held by another runner.
+const busy State = "busy"
 
 // progress keeps the counts of a local run and prints a line per change.
 type progress struct {
@@ -400,7 +411,7 @@ func (p *progress) lineLocked() string {
 	c := p.counts
 	var b strings.Builder
 	fmt.Fprintf(&b, "scan: %d/%d finished", c[Finished], p.total)
-	for _, s := range []State{Failed, Interrupted, Running, Busy, Pending} {
+	for _, s := range []State{Failed, Interrupted, Running, busy, Pending} {
 		if c[s] > 0 {
 			fmt.Fprintf(&b, ", %d %s", c[s], s)
 		}

@@ -7,6 +7,7 @@ import (
 	"errors"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"sync"
 	"testing"
@@ -265,9 +266,20 @@ func TestRunLocalErrors(t *testing.T) {
 	if err == nil || !strings.Contains(err.Error(), "/nonexistent/memix") {
 		t.Errorf("missing runner: %v", err)
 	}
+	// A point whose memix still runs (its runner died) is left alone.
+	sc = expandFake(t, "base: {a: 1}\naxes: {b: [1, 2]}\n")
+	host, _ := os.Hostname()
+	if err := os.WriteFile(filepath.Join(sc.PointDir(sc.Points[0].ID), runningFile),
+		[]byte("kind=local\nhost="+host+"\npid="+strconv.Itoa(os.Getpid())+"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	rep, err := RunLocal(context.Background(), sc.Dir, LocalOptions{Runner: fakeRunner(t)})
+	if err != nil || rep.Busy != 1 || rep.Finished != 1 || invocations(t, sc, sc.Points[0].ID) != nil {
+		t.Errorf("live marker: %+v, %v", rep, err)
+	}
 	// A crash without a summary is a failure with the stderr tail.
 	sc = expandFake(t, "base: {fake: {crash: true}}\naxes: {b: [1]}\n")
-	rep, err := RunLocal(context.Background(), sc.Dir, LocalOptions{Runner: fakeRunner(t)})
+	rep, err = RunLocal(context.Background(), sc.Dir, LocalOptions{Runner: fakeRunner(t)})
 	if err != nil || rep.Failed != 1 || !strings.Contains(rep.Results[0].Error, "exit status 2") ||
 		!strings.Contains(rep.Results[0].Error, "crashed (fake.crash)") {
 		t.Errorf("crash: %+v, %v", rep, err)

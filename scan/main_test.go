@@ -47,7 +47,7 @@ func writeSweep(t testing.TB, sweep, base string) *Sweep {
 	if err := os.WriteFile(path, []byte(sweep), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	s, err := LoadSweep(path)
+	s, err := LoadSweep(path, nil)
 	if err != nil {
 		t.Fatalf("LoadSweep: %v", err)
 	}

@@ -27,8 +27,10 @@ const (
 	Pending     State = "pending"     // never run, or a fresh start is needed
 )
 
-// States lists the states in report order.
-var States = []State{Finished, Running, Queued, Failed, Interrupted, Pending}
+// States returns the states in report order.
+func States() []State {
+	return []State{Finished, Running, Queued, Failed, Interrupted, Pending}
+}
 
 // summaryStatus reads out/summary.json: its status and error fields and
 // the whole decoded object. A missing file gives status "".
@@ -154,12 +156,28 @@ func readMarker(path string) *marker {
 
 // alive reports whether a local marker's process still exists on this host.
 func (m *marker) alive() bool {
+	return m.localState() == liveYes
+}
+
+type liveness int
+
+const (
+	liveUnknown liveness = iota // not a local run of this host
+	liveYes
+	liveNo
+)
+
+// localState checks a local marker's process when it ran on this host.
+func (m *marker) localState() liveness {
 	host, _ := os.Hostname()
 	if m.Kind != "local" || m.Host != host || m.PID <= 0 {
-		return false
+		return liveUnknown
 	}
 	err := syscall.Kill(m.PID, 0)
-	return err == nil || errors.Is(err, syscall.EPERM)
+	if err == nil || errors.Is(err, syscall.EPERM) {
+		return liveYes
+	}
+	return liveNo
 }
 
 // tailLines returns the last n lines of s.

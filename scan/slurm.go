@@ -37,7 +37,8 @@ type SlurmOptions struct {
 	MaxRunning int
 	// Warning is how long before the time limit Slurm warns the task
 	// (--signal=B:USR1@seconds); the script then stops memix with SIGTERM
-	// so it writes a checkpoint. 0 means 300 s.
+	// so it writes a checkpoint. 0 means 300 s, or a tenth of a shorter
+	// Time. Slurm delivers the warning up to a minute late.
 	Warning time.Duration
 	// NoSelfRequeue turns off the requeue after such a warning. By default
 	// a task stopped by the warning requeues itself (scontrol requeue) and
@@ -206,6 +207,51 @@ func readJobs(dir string) ([]JobRecord, error) {
 	return jobs, nil
 }
 
+// slurmDuration reads a time limit in sbatch's forms: MM, MM:SS, HH:MM:SS,
+// D-HH, D-HH:MM, D-HH:MM:SS. "" , UNLIMITED and INFINITE give 0.
+func slurmDuration(s string) (time.Duration, error) {
+	switch strings.ToUpper(s) {
+	case "", "UNLIMITED", "INFINITE":
+		return 0, nil
+	}
+	bad := fmt.Errorf("scan: Slurm time limit %q: use MM, MM:SS, HH:MM:SS, D-HH, D-HH:MM or D-HH:MM:SS", s)
+	days := 0
+	rest := s
+	if d, r, ok := strings.Cut(s, "-"); ok {
+		n, err := strconv.Atoi(d)
+		if err != nil || n < 0 {
+			return 0, bad
+		}
+		days, rest = n, r
+	}
+	var f []int
+	for _, part := range strings.Split(rest, ":") {
+		n, err := strconv.Atoi(part)
+		if err != nil || n < 0 {
+			return 0, bad
+		}
+		f = append(f, n)
+	}
+	var h, m, sec int
+	switch {
+	case days > 0 || strings.Contains(s, "-"):
+		if len(f) > 3 {
+			return 0, bad
+		}
+		f = append(f, 0, 0)
+		h, m, sec = f[0], f[1], f[2]
+	case len(f) == 1:
+		m = f[0]
+	case len(f) == 2:
+		m, sec = f[0], f[1]
+	case len(f) == 3:
+		h, m, sec = f[0], f[1], f[2]
+	default:
+		return 0, bad
+	}
+	return time.Duration(((days*24+h)*60+m)*60+sec) * time.Second, nil
+}
+
 // arraySpec compresses sorted indices into "0-3,7,9-12".
 func arraySpec(idx []int) string {
 	s := append([]int(nil), idx...)
@@ -226,9 +272,11 @@ func arraySpec(idx []int) string {
 	return strings.Join(parts, ",")
 }
 
+var shellSafe = regexp.MustCompile(`^[A-Za-z0-9_@%+=:,./-]+$`)
+
 // shellQuote quotes s for bash.
 func shellQuote(s string) string {
-	if s != "" && regexp.MustCompile(`^[A-Za-z0-9_@%+=:,./-]+$`).MatchString(s) {
+	if s != "" && shellSafe.MatchString(s) {
 		return s
 	}
 	return "'" + strings.ReplaceAll(s, "'", `'\''`) + "'"
@@ -249,12 +297,23 @@ func slurmScript(sc *Scan, idx []int, opt SlurmOptions) ([]byte, error) {
 	if cpus < 1 {
 		cpus = 1
 	}
+	limit, err := slurmDuration(opt.Time)
+	if err != nil {
+		return nil, err
+	}
 	warn := opt.Warning
 	if warn == 0 {
+		// 300 s, or a tenth of a shorter time limit.
 		warn = 300 * time.Second
+		if limit > 0 && limit/10 < warn {
+			warn = max(limit/10, time.Second)
+		}
 	}
 	if warn < time.Second {
 		return nil, fmt.Errorf("scan: Slurm warning time %s: must be at least 1 s", warn)
+	}
+	if limit > 0 && warn >= limit {
+		return nil, fmt.Errorf("scan: Slurm warning time %s is not shorter than the time limit %s (%s)", warn, opt.Time, limit)
 	}
 	name := opt.JobName
 	if name == "" {
@@ -282,7 +341,7 @@ func slurmScript(sc *Scan, idx []int, opt SlurmOptions) ([]byte, error) {
 	}
 	logs := filepath.Join(sc.Dir, slurmDir, "logs")
 	w("#!/bin/bash\n")
-	w("# memix scan job array: array task N runs point N of %s.\n", filepath.Join(sc.Dir, pointsCSV))
+	w("# memix scan job array: array task N runs points[N] of the list below\n# (index N of %s when this was written).\n", filepath.Join(sc.Dir, pointsCSV))
 	w("# Written %s for %d points; submit with sbatch, or let memix scan do it.\n", time.Now().UTC().Format(time.RFC3339), len(idx))
 	w("#SBATCH --job-name=%s\n", name)
 	w("#SBATCH --array=%s\n", spec)
@@ -418,7 +477,7 @@ case $rc in
 3)
 	if [ "$warned" = 1 ] && [ "$self_requeue" = 1 ]; then
 		log "point $id interrupted with a checkpoint; requeueing the task to resume it"
-		scontrol requeue "${SLURM_ARRAY_JOB_ID:-$SLURM_JOB_ID}_$task" && exit 0
+		scontrol requeue "$job" && exit 0
 		log "scontrol requeue failed; resubmit the scan to resume"
 	else
 		log "point $id interrupted with a checkpoint; the next submission resumes it"

@@ -60,7 +60,7 @@ func TestSlurmCluster(t *testing.T) {
 	realRunner := os.Getenv("MEMIX_SLURM_RUNNER") != ""
 	if realRunner {
 		runner = Runner{Command: []string{os.Getenv("MEMIX_SLURM_RUNNER")}}
-		s, err := LoadSweep(os.Getenv("MEMIX_SLURM_SWEEP"))
+		s, err := LoadSweep(os.Getenv("MEMIX_SLURM_SWEEP"), nil)
 		if err != nil {
 			t.Fatalf("MEMIX_SLURM_SWEEP: %v", err)
 		}
@@ -104,7 +104,7 @@ zip:
 			}
 		}
 	})
-	opt := SlurmOptions{Runner: runner, CPUsPerTask: 1, Time: "00:05:00", JobName: "memix-test"}
+	opt := SlurmOptions{Runner: runner, CPUsPerTask: 1, Time: "00:10:00", JobName: "memix-test"}
 
 	// Phase 1: all four points.
 	rec, err := Submit(ctx, sc.Dir, opt)

@@ -14,6 +14,25 @@ import (
 	"time"
 )
 
+func TestSlurmDuration(t *testing.T) {
+	// Forms from the sbatch manual's --time option.
+	cases := map[string]time.Duration{
+		"": 0, "UNLIMITED": 0, "90": 90 * time.Minute, "5:30": 5*time.Minute + 30*time.Second,
+		"02:00:00": 2 * time.Hour, "1-12": 36 * time.Hour, "1-00:30": 24*time.Hour + 30*time.Minute,
+		"2-01:02:03": 49*time.Hour + 2*time.Minute + 3*time.Second,
+	}
+	for in, want := range cases {
+		if got, err := slurmDuration(in); err != nil || got != want {
+			t.Errorf("slurmDuration(%q) = %v, %v; want %v", in, got, err, want)
+		}
+	}
+	for _, bad := range []string{"1:2:3:4", "x", "-5", "1-2:3:4:5", "1h"} {
+		if _, err := slurmDuration(bad); err == nil {
+			t.Errorf("slurmDuration(%q) accepted", bad)
+		}
+	}
+}
+
 func TestArraySpec(t *testing.T) {
 	cases := map[string][]int{
 		"0":           {0},
@@ -107,7 +126,7 @@ zip:
 	text := readFile(t, script)
 	for _, want := range []string{
 		"#SBATCH --array=0-3%2\n", "#SBATCH --partition=short\n", "#SBATCH --time=00:10:00\n",
-		"#SBATCH --cpus-per-task=2\n", "#SBATCH --mem=1G\n", "#SBATCH --signal=B:USR1@300\n",
+		"#SBATCH --cpus-per-task=2\n", "#SBATCH --mem=1G\n", "#SBATCH --signal=B:USR1@60\n", // a tenth of 10 min
 		"#SBATCH --requeue\n", "#SBATCH --account=demo\n",
 		"#SBATCH --output=" + filepath.Join(sc.Dir, "slurm", "logs") + "/%A_%a.out\n",
 		"#SBATCH --error=" + filepath.Join(sc.Dir, "slurm", "logs") + "/%A_%a.err\n",
@@ -287,7 +306,11 @@ func TestSubmitAndStatus(t *testing.T) {
 	write(filepath.Join(pd(1), failureFile), "memix: exit status 1\nstderr (last lines):\nbad")
 	write(filepath.Join(pd(2), "out", checkpointH5), "step=1")
 	write(filepath.Join(pd(2), "out", summaryFile), `{"status": "interrupted"}`)
-	// 3: nothing, pending
+	dead := exec.Command("true")
+	if err := dead.Run(); err != nil {
+		t.Fatal(err)
+	}
+	write(filepath.Join(pd(3), runningFile), fmt.Sprintf("kind=local\nhost=%s\npid=%d\n", host, dead.Process.Pid)) // killed
 	write(filepath.Join(pd(4), runningFile), fmt.Sprintf("kind=local\nhost=%s\npid=%d\n", host, os.Getpid()))
 	write(filepath.Join(pd(5), runningFile), "kind=slurm\nhost=node7\npid=1\njob=4242_5\n")
 	// 6: queued in squeue
@@ -298,16 +321,18 @@ func TestSubmitAndStatus(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want := []State{Finished, Failed, Interrupted, Pending, Running, Running, Queued, Pending}
+	want := []State{Finished, Failed, Interrupted, Failed, Running, Running, Queued, Failed}
 	for i, ps := range st.Points {
 		if ps.State != want[i] {
 			t.Errorf("point %d: %s (%s), want %s", i, ps.State, ps.Detail, want[i])
 		}
 	}
-	if st.Points[1].Detail != "memix: exit status 1" || st.Points[6].Detail != "Slurm task 4242_6 (PD)" {
-		t.Errorf("details %q, %q", st.Points[1].Detail, st.Points[6].Detail)
+	if st.Points[1].Detail != "memix: exit status 1" || st.Points[6].Detail != "Slurm task 4242_6 (PD)" ||
+		!strings.HasPrefix(st.Points[3].Detail, fmt.Sprintf("the local run (process %d) ended without recording a result", dead.Process.Pid)) ||
+		!strings.HasPrefix(st.Points[7].Detail, "Slurm task 4000_7 (see slurm/logs/4000_7.err) ended without recording a result") {
+		t.Errorf("details %q", []string{st.Points[1].Detail, st.Points[3].Detail, st.Points[6].Detail, st.Points[7].Detail})
 	}
-	if got := st.String(); got != "8 points: 1 finished, 2 running, 1 queued, 1 failed, 1 interrupted, 2 pending" {
+	if got := st.String(); got != "8 points: 1 finished, 2 running, 1 queued, 3 failed, 1 interrupted" {
 		t.Errorf("summary %q", got)
 	}
 	// Without squeue, Slurm markers are trusted and queued tasks unknown.
@@ -315,7 +340,7 @@ func TestSubmitAndStatus(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	want = []State{Finished, Failed, Interrupted, Pending, Running, Running, Pending, Running}
+	want = []State{Finished, Failed, Interrupted, Failed, Running, Running, Pending, Running}
 	for i, ps := range st.Points {
 		if ps.State != want[i] {
 			t.Errorf("without squeue, point %d: %s, want %s", i, ps.State, want[i])
@@ -326,7 +351,7 @@ func TestSubmitAndStatus(t *testing.T) {
 	}
 
 	// Resubmission covers the points neither finished nor queued nor
-	// running: 1, 2, 3 and 7 (its marker is stale).
+	// running: 1, 2, 3 and 7.
 	if err := os.WriteFile(filepath.Join(bin, "sbatch"), []byte("#!/bin/sh\necho 4243\n"), 0o755); err != nil {
 		t.Fatal(err)
 	}
@@ -363,6 +388,8 @@ func TestSlurmOptionErrors(t *testing.T) {
 		{Extra: []string{"account=x"}},
 		{Runner: Runner{Env: []string{"1X=2"}}},
 		{Warning: time.Millisecond},
+		{Time: "2 hours"},
+		{Time: "00:05:00", Warning: 5 * time.Minute},
 	} {
 		opt.Squeue = "/nonexistent/squeue"
 		if _, _, err := WriteSlurmScript(context.Background(), sc.Dir, opt); err == nil {

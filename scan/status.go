@@ -6,6 +6,7 @@ import (
 	"errors"
 	"fmt"
 	"os/exec"
+	"path/filepath"
 	"sort"
 	"strconv"
 	"strings"
@@ -38,7 +39,7 @@ type StatusReport struct {
 // String is a one-line summary: "8 points: 3 finished, 1 failed, ...".
 func (r *StatusReport) String() string {
 	var parts []string
-	for _, s := range States {
+	for _, s := range States() {
 		if r.Counts[s] > 0 {
 			parts = append(parts, fmt.Sprintf("%d %s", r.Counts[s], s))
 		}
@@ -51,8 +52,10 @@ func (r *StatusReport) String() string {
 // for the Slurm jobs recorded in slurm/jobs.json, from squeue: a task that
 // squeue lists as pending makes its point queued, one it lists as running
 // makes it running. No accounting (sacct) is needed. Without squeue a
-// Slurm running marker is trusted, and a note says so; with squeue a marker
-// whose task has left the queue is stale and ignored (the task was killed).
+// Slurm running marker is trusted, and a note says so. A marker whose run
+// is gone (its Slurm task has left the queue, or its local process on this
+// host has exited) means the run was killed before it could record
+// anything: the point is reported failed, with that as its detail.
 func Status(ctx context.Context, scanDir string, opt StatusOptions) (*StatusReport, error) {
 	sc, err := Open(scanDir)
 	if err != nil {
@@ -115,17 +118,37 @@ func Status(ctx context.Context, scanDir string, opt StatusOptions) (*StatusRepo
 		d := disk[i]
 		ps := PointStatus{Point: p}
 		q, queued := inQueue[p.ID]
+		m := d.running
 		switch {
 		case d.status == "finished":
 			ps.State = Finished
 		case queued && q.state == "R":
 			ps.State, ps.Detail = Running, "Slurm task "+q.name
-		case d.running != nil && d.running.Kind == "local" && d.running.alive():
-			ps.State, ps.Detail = Running, fmt.Sprintf("local process %d on %s", d.running.PID, d.running.Host)
-		case d.running != nil && d.running.Kind == "slurm" && !haveQueue:
-			ps.State, ps.Detail = Running, "Slurm task "+d.running.Job+" (not confirmed: no squeue)"
+		case m != nil && m.Kind == "local" && m.localState() == liveYes:
+			ps.State, ps.Detail = Running, fmt.Sprintf("local process %d on %s", m.PID, m.Host)
+		case m != nil && m.Kind == "local" && m.localState() == liveUnknown:
+			ps.State, ps.Detail = Running, fmt.Sprintf("local process %d on %s (not confirmed: another host)", m.PID, m.Host)
+		case m != nil && m.Kind == "slurm" && !haveQueue:
+			ps.State, ps.Detail = Running, "Slurm task "+m.Job+" (not confirmed: no squeue)"
 		case queued:
 			ps.State, ps.Detail = Queued, "Slurm task "+q.name+" ("+q.state+")"
+		case m != nil && inspect(sc.PointDir(p.ID)).running != nil:
+			// A marker whose run is gone, still there on a second look:
+			// the run was killed before it could record anything.
+			d = inspect(sc.PointDir(p.ID))
+			if d.status == "finished" {
+				ps.State = Finished
+				break
+			}
+			if d.checkpoint && d.status == "interrupted" {
+				ps.State = Interrupted
+				break
+			}
+			who := fmt.Sprintf("the local run (process %d)", m.PID)
+			if m.Kind == "slurm" {
+				who = fmt.Sprintf("Slurm task %s (see %s)", m.Job, filepath.Join(slurmDir, "logs", m.Job+".err"))
+			}
+			ps.State, ps.Detail = Failed, who+" ended without recording a result: killed (time limit, memory, node failure)?"
 		case d.failure != "":
 			ps.State, ps.Detail = Failed, firstLine(d.failure)
 		case d.status == "failed":

@@ -1,6 +1,7 @@
 package scan
 
 import (
+	"bytes"
 	"crypto/sha256"
 	"encoding/hex"
 	"encoding/json"
@@ -129,8 +130,9 @@ func shortKey(k string) string {
 }
 
 // LoadSweep reads and parses the sweep file at path; a base configuration
-// named by a relative path is looked up beside it.
-func LoadSweep(path string) (*Sweep, error) {
+// named by a relative path is looked up beside it. conv is as for
+// [ParseSweep] (nil means [LocalConverter]).
+func LoadSweep(path string, conv Converter) (*Sweep, error) {
 	text, err := os.ReadFile(path)
 	if err != nil {
 		return nil, err
@@ -139,7 +141,7 @@ func LoadSweep(path string) (*Sweep, error) {
 	if err != nil {
 		return nil, err
 	}
-	s, err := ParseSweep(text, filepath.Dir(abs), LocalConverter)
+	s, err := ParseSweep(text, filepath.Dir(abs), conv)
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", path, err)
 	}
@@ -284,8 +286,8 @@ func (s *Sweep) readBase(v *yaml.Node) error {
 		}
 		s.BaseFrom, s.base, s.baseText = path, doc.Content[0], text
 	case yaml.MappingNode:
-		s.base = v
-		text, err := yaml.Marshal(v)
+		s.base = blockStyle(cloneNode(v))
+		text, err := marshalYAML(s.base)
 		if err != nil {
 			return fmt.Errorf("sweep: base: %w", err)
 		}
@@ -561,7 +563,7 @@ func (s *Sweep) Points() ([]PointConfig, error) {
 			return nil, fmt.Errorf("sweep: points %d and %d have the same parameters (%s); an axis repeats a value", q, p, (&Point{Params: params}).Label())
 		}
 		seen[id] = p
-		text, err := yaml.Marshal(cfg)
+		text, err := marshalYAML(cfg)
 		if err != nil {
 			return nil, fmt.Errorf("sweep: point %s: %w", id, err)
 		}
@@ -598,6 +600,31 @@ func pointID(params []Param) (string, error) {
 		fmt.Fprintf(h, "%s\x00%s\n", p.Key, b)
 	}
 	return "p-" + hex.EncodeToString(h.Sum(nil))[:10], nil
+}
+
+// marshalYAML encodes a node with two-space indentation.
+func marshalYAML(n *yaml.Node) ([]byte, error) {
+	var b bytes.Buffer
+	enc := yaml.NewEncoder(&b)
+	enc.SetIndent(2)
+	if err := enc.Encode(n); err != nil {
+		return nil, err
+	}
+	if err := enc.Close(); err != nil {
+		return nil, err
+	}
+	return b.Bytes(), nil
+}
+
+// blockStyle writes an inline base out in block style, like a config file.
+func blockStyle(n *yaml.Node) *yaml.Node {
+	if n.Kind == yaml.MappingNode {
+		n.Style &^= yaml.FlowStyle
+	}
+	for _, c := range n.Content {
+		blockStyle(c)
+	}
+	return n
 }
 
 func cloneNode(n *yaml.Node) *yaml.Node {
