@@ -22,7 +22,8 @@ import (
 // through scripts/setup.sh --slurm when they are missing), submits a scan
 // to it and gathers the results. It needs root and, when Slurm is missing,
 // apt-get; elsewhere it skips. The daemons are stopped by PID when the test
-// ends, pass or fail.
+// ends, pass or fail, and by the script's watchdog if the test process dies
+// before its cleanups run.
 //
 // By default the runs are the fake memix of the other tests. To run a real
 // memix instead, set MEMIX_SLURM_RUNNER to its path and MEMIX_SLURM_SWEEP
@@ -221,7 +222,10 @@ func startCluster(t *testing.T, ctx context.Context) string {
 	})
 	cmd := exec.CommandContext(ctx, script, "start", dir)
 	ctld, slurmd := freePort(t), freePort(t)
-	cmd.Env = append(os.Environ(), "SLURMCTLD_PORT="+strconv.Itoa(ctld), "SLURMD_PORT="+strconv.Itoa(slurmd))
+	// The script's watchdog stops the daemons should this process die
+	// before its cleanups run (go test's -timeout, SIGKILL).
+	cmd.Env = append(os.Environ(), "SLURMCTLD_PORT="+strconv.Itoa(ctld), "SLURMD_PORT="+strconv.Itoa(slurmd),
+		"CLUSTER_OWNER_PID="+strconv.Itoa(os.Getpid()))
 	out, err := cmd.CombinedOutput()
 	if err != nil {
 		t.Fatalf("starting the cluster: %v\n%s", err, out)

@@ -12,6 +12,10 @@
 #   cluster.sh exec DIR -- CMD ...
 #                          start, run CMD with SLURM_CONF set, stop (always).
 #
+# With CLUSTER_OWNER_PID set, start also leaves a watchdog that stops the
+# daemons once that process has gone, so that a test killed before its
+# cleanup (a timeout, SIGKILL) leaves nothing running; stop ends it too.
+#
 # Nothing outside DIR is changed except the packages: the cluster has its own
 # munge socket, state, spool, pid and log files under DIR, and its own ports
 # (SLURMCTLD_PORT, SLURMD_PORT; defaults 16817 and 16818), so it does not
@@ -45,13 +49,28 @@ alive() {
 # each gets 10 s before SIGKILL. Only PIDs that this script recorded are
 # signalled.
 stop_daemons() {
-	local dir="$1" group name pid i any
+	local dir="$1" group name pid i any ctld
 	[ -f "$dir/pids" ] || return 0
-	for group in "slurmd slurmctld" "munged"; do
+	# Jobs still in the queue are cancelled first: their slurmstepd and
+	# job processes would outlive slurmd. Waits up to 15 s for the queue
+	# to empty (at once when it is empty already).
+	ctld="$(awk '$1 == "slurmctld" { print $2 }' "$dir/pids")"
+	if [ -n "$ctld" ] && alive "$ctld" && [ -f "$dir/slurm.conf" ]; then
+		export SLURM_CONF="$dir/slurm.conf"
+		if [ -n "$(timeout 5 squeue -h -o %i 2>/dev/null)" ]; then
+			timeout 5 scancel --partition=debug 2>/dev/null || true
+			for ((i = 0; i < 150; i++)); do
+				[ -n "$(timeout 5 squeue -h -o %i 2>/dev/null)" ] || break
+				sleep 0.1
+			done
+		fi
+	fi
+	for group in watchdog "slurmd slurmctld" "munged"; do
 		local pids=()
 		for name in $group; do
 			pid="$(awk -v n="$name" '$1 == n { print $2 }' "$dir/pids")"
 			[ -n "$pid" ] || continue
+			[ "$pid" != "$BASHPID" ] || continue # the watchdog stopping the rest
 			alive "$pid" || continue
 			kill -TERM "$pid" 2>/dev/null || true
 			pids+=("$pid")
@@ -192,6 +211,16 @@ EOF
 		die "the node did not become idle within 30 s (logs in $dir/log)"
 	fi
 	trap - ERR
+	if [ -n "${CLUSTER_OWNER_PID:-}" ]; then
+		(
+			while kill -0 "$CLUSTER_OWNER_PID" 2>/dev/null && [ -f "$dir/pids" ]; do sleep 1; done
+			if [ -f "$dir/pids" ]; then
+				echo "slurm cluster: owner $CLUSTER_OWNER_PID has gone; stopping the daemons" >&2
+				stop_daemons "$dir"
+			fi
+		) </dev/null >>"$dir/log/watchdog.out" 2>&1 &
+		echo "watchdog $!" >>"$dir/pids"
+	fi
 	echo "export SLURM_CONF=$dir/slurm.conf"
 }
 
