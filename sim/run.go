@@ -133,7 +133,7 @@ type Result struct {
 }
 
 // ErrInterrupted is returned when the context is cancelled.
-var ErrInterrupted = errors.New("sim: run interrupted")
+var ErrInterrupted = errors.New("run interrupted; checkpoint written")
 
 // StepError reports a failed step.
 type StepError struct {

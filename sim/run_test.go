@@ -192,7 +192,7 @@ func TestRunNeedsEndCondition(t *testing.T) {
 func TestLineProgress(t *testing.T) {
 	var buf bytes.Buffer
 	clock := time.Unix(0, 0)
-	p := &lineProgress{w: &buf, every: 10 * time.Second, now: func() time.Time { return clock }}
+	p := &lineProgress{w: &buf, every: 10 * time.Second, now: func() time.Time { return clock }, scale: 1e-3, unit: "s"}
 	p.Start(0, 10, 0, 0)
 	for i := 1; i <= 10; i++ {
 		clock = clock.Add(4 * time.Second)
@@ -204,7 +204,7 @@ func TestLineProgress(t *testing.T) {
 	if len(lines) != 4 {
 		t.Fatalf("got %d lines, want 4:\n%s", len(lines), buf.String())
 	}
-	if !strings.Contains(lines[0], "step 3") || !strings.Contains(lines[0], "30.0%") || !strings.Contains(lines[0], "eta 28s") {
+	if !strings.Contains(lines[0], "t = 0.003 s") || !strings.Contains(lines[0], "step 3") || !strings.Contains(lines[0], "30.0%") || !strings.Contains(lines[0], "eta 28s") {
 		t.Errorf("first line %q: want step 3, 30.0%% and eta 28s", lines[0])
 	}
 	if !strings.Contains(lines[3], "100.0%") {
