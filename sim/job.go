@@ -122,21 +122,22 @@ func Resume(ctx context.Context, dir string, o JobOptions) (*Summary, error) {
 // applySet applies "key=value" overrides; resume restricts them to the
 // time and output sections, which do not change the physics of the state.
 func applySet(c config.Config, set []string, resume bool) (config.Config, error) {
-	for _, kv := range set {
-		key, val, ok := strings.Cut(kv, "=")
+	if len(set) == 0 {
+		return c, nil
+	}
+	kv := make([][2]string, 0, len(set))
+	for _, p := range set {
+		key, val, ok := strings.Cut(p, "=")
 		key = strings.TrimSpace(key)
 		if !ok || key == "" {
-			return c, fmt.Errorf("--set %q: want key=value, e.g. time.dt_max=1e-6", kv)
+			return c, fmt.Errorf("--set %q: want key=value, e.g. time.dt_max=1e-6", p)
 		}
 		if resume && !strings.HasPrefix(key, "time.") && !strings.HasPrefix(key, "output.") {
 			return c, fmt.Errorf("--set %s: a resumed run may change only time.* and output.* keys (the state was computed with the recorded physics)", key)
 		}
-		var err error
-		if c, err = c.Set(key, strings.TrimSpace(val)); err != nil {
-			return c, err
-		}
+		kv = append(kv, [2]string{key, strings.TrimSpace(val)})
 	}
-	return c, nil
+	return c.SetAll(kv)
 }
 
 // prepareDir makes sure dir exists and is empty.
@@ -608,7 +609,9 @@ func (j *job) run(ctx context.Context, resumed bool) (*Summary, error) {
 		Resumed:  resumed,
 		Observers: []Scheduled{
 			{Name: "series", Observer: ObserverFunc(func(e Event) error {
-				if e.Failed {
+				if e.Failed || e.Interrupted {
+					// No row off the time marks: a resumed run must write
+					// exactly the rows of an uninterrupted one.
 					return j.series.Sync()
 				}
 				return j.writeRow()
@@ -620,7 +623,7 @@ func (j *job) run(ctx context.Context, resumed bool) (*Summary, error) {
 	}
 	if out.Snapshots > 0 {
 		opts.Observers = append(opts.Observers, Scheduled{Name: "snapshots", Observer: ObserverFunc(func(e Event) error {
-			if e.Failed {
+			if e.Failed || e.Interrupted {
 				return nil
 			}
 			return j.writeSnapshot()

@@ -26,8 +26,9 @@ type Event struct {
 	Step   int
 	Time   float64
 	Dt     float64
-	Final  bool // the last call of the run
-	Failed bool // the run stops because a step failed; the state is not trustworthy
+	Final       bool // the last call of the run
+	Failed      bool // the run stops because a step failed; the state is not trustworthy
+	Interrupted bool // the run stops because the context was cancelled
 }
 
 // Observer receives events on its schedule. An error stops the run (it is
@@ -163,7 +164,8 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 	}
 	ckWall := start
 	event := func(final, failed bool) Event {
-		return Event{Step: sys.Steps(), Time: sys.Time(), Dt: sys.Dt(), Final: final, Failed: failed}
+		return Event{Step: sys.Steps(), Time: sys.Time(), Dt: sys.Dt(), Final: final, Failed: failed,
+			Interrupted: final && res.Reason == Interrupted}
 	}
 	checkpoint := func() error {
 		if opt.Checkpoint == nil {
