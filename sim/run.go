@@ -23,9 +23,9 @@ type System interface {
 
 // Event describes the moment an observer is called.
 type Event struct {
-	Step   int
-	Time   float64
-	Dt     float64
+	Step        int
+	Time        float64
+	Dt          float64
 	Final       bool // the last call of the run
 	Failed      bool // the run stops because a step failed; the state is not trustworthy
 	Interrupted bool // the run stops because the context was cancelled
