@@ -280,3 +280,35 @@ func TestPassiveModeDecayRate(t *testing.T) {
 		t.Errorf("threshold time %v s, want ln(10)/(Dk²) = %v s", n.ThresholdTimeS, math.Log(10)/want)
 	}
 }
+
+// TestOutputReferenceCoversSeries keeps docs/outputs.md in step with the
+// series columns and snapshot fields of every model combination.
+func TestOutputReferenceCoversSeries(t *testing.T) {
+	doc, err := os.ReadFile("../docs/outputs.md")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, set := range [][]string{
+		{"inclusions.model=moments", "lipids.model=passive"},
+		{"inclusions.model=kinetic", "inclusions.harmonics=2", "lipids.model=phase", "initial.lipids=random"},
+		{"inclusions.model=none", "lipids.model=passive"},
+		{"inclusions.model=moments", "lipids.model=none"},
+	} {
+		c := parse(t, smallRun, set...)
+		j, err := newJob(c, t.TempDir(), opts())
+		if err != nil {
+			t.Fatal(err)
+		}
+		for _, col := range j.seriesColumns() {
+			if !strings.Contains(string(doc), "`"+col.Name+"` | `"+col.Unit+"`") {
+				t.Errorf("docs/outputs.md lacks the series column %s [%s] (%v)", col.Name, col.Unit, set)
+			}
+		}
+		for _, v := range j.model.Views() {
+			if !strings.Contains(string(doc), "`"+v.Name+"`") && !strings.HasPrefix(v.Name, "a") && !strings.HasPrefix(v.Name, "b") {
+				t.Errorf("docs/outputs.md lacks the snapshot field %s", v.Name)
+			}
+		}
+		j.close()
+	}
+}
