@@ -82,3 +82,18 @@ func TestRunInterruptedExitStatus(t *testing.T) {
 		t.Errorf("summary after resume:\n%s", b)
 	}
 }
+
+func TestBenchCommand(t *testing.T) {
+	out, errs, code := memix(t, "bench", "--sizes", "16", "--models", "moments,kinetic-2", "--steps", "2", "--min-time", "0s", "--csv")
+	if code != 0 {
+		t.Fatalf("bench: exit %d, %s", code, errs)
+	}
+	for _, want := range []string{"moments/16", "kinetic-M2/16", "ffts_per_step", "bytes_per_point"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("bench output lacks %q:\n%s", want, out)
+		}
+	}
+	if _, _, code := memix(t, "bench", "--models", "kinetic-x"); code != 2 {
+		t.Errorf("bad --models: exit %d, want 2", code)
+	}
+}
