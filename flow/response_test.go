@@ -313,3 +313,12 @@ func TestResponseTableAndLogSpaced(t *testing.T) {
 		t.Errorf("ResponseTable of a bare membrane: %v", err)
 	}
 }
+
+// TestResponseAllocatesNothing: a response evaluation allocates nothing
+// (the quadrature keeps its state on the stack).
+func TestResponseAllocatesNothing(t *testing.T) {
+	m := responseCases["mixed"]
+	if n := testing.AllocsPerRun(5, func() { _, _, _ = m.Response(2.5) }); n != 0 {
+		t.Errorf("Response allocates %v times per call", n)
+	}
+}
