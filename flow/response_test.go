@@ -138,7 +138,7 @@ func TestResponseTableIsCurrent(t *testing.T) {
 //     terms are O(x ln x), so the tolerance is 2x(|ln x| + 1)];
 //   - large x, deep: G∥ → 1/(2π η_s r) [MODEL.md], with relative correction
 //     O(1/x) (next term of the closed form: −1/x², i.e. relative 1/x),
-//     tolerance 2/x relative;
+//     tolerance 2/x relative; G⊥ ∝ 1/r² (below);
 //   - large x, friction: potential dipole G∥ = −G⊥ = 1/(2πξr²) up to
 //     exponentially small K-terms, tolerance goResponseTol.
 func TestResponseLimits(t *testing.T) {
@@ -159,13 +159,20 @@ func TestResponseLimits(t *testing.T) {
 		}
 	}
 	for _, x := range []float64{3e3, 1e4} {
-		par, _, err := deep.Response(x)
+		par, perp, err := deep.Response(x)
 		if err != nil {
 			t.Fatal(err)
 		}
 		want := 1 / (2 * math.Pi * 1 * x)
 		if d := math.Abs(par/want - 1); d > 2/x {
 			t.Errorf("deep x=%g: G∥ = %g, far field 1/(2π η_s r) = %g: relative diff %.2g > %.2g", x, par, want, d, 2/x)
+		}
+		// G⊥ ∝ 1/r² [MODEL.md]; the coefficient η_m/(2π η_s² r²) and the
+		// relative correction −2/x come from the large-x expansion of the
+		// closed form, 4πη_m G⊥ = 2/x² − 4/x³ + … [derived]; tolerance 3/x.
+		wantPerp := deep.Viscosity / (2 * math.Pi * x * x)
+		if d := math.Abs(perp/wantPerp - 1); d > 3/x {
+			t.Errorf("deep x=%g: G⊥ = %g, far field η_m/(2π η_s² r²) = %g: relative diff %.2g > %.2g", x, perp, wantPerp, d, 3/x)
 		}
 	}
 	fr := responseCases["friction"]
