@@ -25,8 +25,16 @@
 //   - Flow maps of a smoothed point force or force dipole in the periodic
 //     box: [FlowMap].
 //
-// Files named mobility*, varvisc* and pcg* hold the inclusion mobility and
-// the variable-viscosity solver.
+//   - The mobility of a rigid disk inclusion: [InclusionMobility] picks the
+//     Saffman–Delbrück, Petrov–Schwille or Evans–Sackmann closed form where
+//     it is exact or its accuracy established, and otherwise solves the
+//     rigid-disk problem with the membrane's own D(k) by a Galerkin method
+//     (mobility_galerkin.go); every estimate carries its method, source,
+//     validity and error.
+//   - Composition-dependent membrane viscosity: [ViscosityLaw] (constant,
+//     log-linear, linear in the composition φ ∈ [−1, 1]) and [VarSolver],
+//     preconditioned conjugate gradients on divergence-free fields with the
+//     constant-viscosity Fourier inverse as preconditioner.
 //
 // # Conventions
 //
