@@ -42,7 +42,9 @@ func TestGrowthRatesAgreeWithNonlinearSolver(t *testing.T) {
 		dtr   = 0.05
 	)
 	worst := 0.0
-	defer func() { t.Logf("largest relative difference of fitted and predicted rates: %.2g (tolerance 1e-3)", worst) }()
+	defer func() {
+		t.Logf("largest relative difference of fitted and predicted rates: %.2g (tolerance 1e-3)", worst)
+	}()
 	for _, mem := range []struct {
 		name  string
 		m     flow.Membrane
