@@ -281,6 +281,13 @@ func (s *VarSolver) Solve(ux, uy, fx, fy []complex128) (PCGResult, error) {
 	s.checkSpec(ux, uy, fx, fy, "Solve")
 	copy(s.bx, fx)
 	copy(s.by, fy)
+	// Project twice: the longitudinal round-off one projection leaves is
+	// relative to f, not to P f. When f is longitudinal to round-off (a
+	// single mode of Q along its wavevector, say), P f is of the size of
+	// that round-off, and a b with a longitudinal part of its own size,
+	// which A cannot produce, would keep the relative residual near 1. The
+	// second pass leaves a longitudinal part of order ε‖b‖.
+	s.project(s.bx, s.by)
 	s.project(s.bx, s.by)
 	if !s.haveGuess || s.opt.ColdStart {
 		clear(s.xx)
