@@ -1,6 +1,10 @@
 package fields
 
-import "math"
+import (
+	"math"
+
+	"github.com/memix-sim/memix/flow"
+)
 
 // View is a real-space field for the output writers.
 type View struct {
@@ -35,8 +39,9 @@ func (m *Model) initViews() {
 func (m *Model) Views() []View { return m.viewList }
 
 // UpdateViews computes the views from the current state. It allocates
-// nothing.
-func (m *Model) UpdateViews() {
+// nothing. With a composition-dependent viscosity its flow solve can fail
+// (a *FlowError, Stage 0); the velocity views are then not to be used.
+func (m *Model) UpdateViews() error {
 	for f := range m.names {
 		m.inv(m.viewList[f].Data, m.views[f])
 	}
@@ -51,35 +56,33 @@ func (m *Model) UpdateViews() {
 		clear(ux)
 		clear(uy)
 		clear(w)
-		return
+		return nil
 	}
-	m.solveCurrent()
-	g := m.g
-	kx, ky := g.Kx(), g.Ky()
-	nk := g.Nkx()
-	for j := 0; j < g.Ny; j++ {
-		b := ky[j]
-		for i := 0; i < nk; i++ {
-			idx := j*nk + i
-			x, y := m.dux[idx], m.duy[idx]
-			v := complex(kx[i]*real(y)-b*real(x), kx[i]*imag(y)-b*imag(x))
-			m.s3[idx] = complex(-imag(v), real(v))
-		}
+	var phiR []float64
+	if m.iPhi >= 0 {
+		phiR = m.viewList[m.iPhi].Data
 	}
+	err := m.solveCurrent(phiR, &flowWork{})
+	flow.Vorticity(m.g, m.s3, m.dux, m.duy, m.s4)
 	m.invOver(w, m.s3)
 	m.inv(ux, m.dux)
 	m.inv(uy, m.duy)
+	return err
+}
+
+// needPhiReal reports whether solveCurrent needs φ in real space.
+func (m *Model) needPhiReal() bool {
+	l := m.p.Lipid
+	return m.flowOn && ((l.Backreaction && l.Energy != 0) || m.comp != nil)
 }
 
 // solveCurrent sets dfx, dfy to the active force, dkx, dky to the Korteweg
-// force and dux, duy to the velocity of the current state.
-func (m *Model) solveCurrent() {
-	var phiR []float64
+// force and dux, duy to the velocity of the current state. phiR must hold
+// φ in real space if needPhiReal. A composition-dependent solve starts
+// from the warm start and adds its work to w; its failure is returned.
+func (m *Model) solveCurrent(phiR []float64, w *flowWork) error {
 	l := m.p.Lipid
-	kort := l.Backreaction && l.Energy != 0
-	if kort {
-		phiR = m.rf[m.iPhi]
-		m.inv(phiR, m.views[m.iPhi])
+	if l.Backreaction && l.Energy != 0 {
 		for i, v := range phiR {
 			m.t1[i] = v * v * v
 		}
@@ -94,7 +97,12 @@ func (m *Model) solveCurrent() {
 		m.dux[i] = m.dfx[i] + m.dkx[i]
 		m.duy[i] = m.dfy[i] + m.dky[i]
 	}
-	m.flow.Solve(m.dux, m.duy, m.dux, m.duy)
+	if m.comp == nil {
+		m.flow.Solve(m.dux, m.duy, m.dux, m.duy)
+		return nil
+	}
+	m.primeGuess()
+	return m.solveComp(m.dux, m.duy, phiR, w)
 }
 
 // Diagnostics are box averages of the current state, in reduced units.
@@ -108,10 +116,17 @@ type Diagnostics struct {
 	// ActivePower ⟨f_a·u⟩ of the active force, InterfacePower ⟨f_φ·u⟩ of the
 	// Korteweg force and Dissipation ⟨2η_m E:E⟩ + Σ_k (Γ₊+Γ₋)(k)|û_k|² +
 	// ξ⟨|u|²⟩, all per area in η_m/τ₀². In Stokes flow the power input
-	// equals the dissipation. The viscous term uses the uniform viscosity
-	// Params.Membrane.Viscosity (it does not describe a variable-viscosity
-	// FlowSolver).
+	// equals the dissipation. The viscous term uses Membrane.Viscosity, or,
+	// with a composition-dependent viscosity, η_m(φ(x)) at the grid points
+	// (the rule the iterative solver is built on); the power then equals
+	// the dissipation up to the solver's residual (at most
+	// FlowResidual·‖Pf‖·‖u‖ in box L² norms).
 	ActivePower, InterfacePower, Dissipation float64
+	// FlowIterations and FlowResidual are the iterations and final
+	// relative residual of the flow solve of a composition-dependent
+	// viscosity behind these diagnostics (0 otherwise).
+	FlowIterations int
+	FlowResidual   float64
 
 	MeanDensity float64 // ⟨c⟩, c₀ (1 unless set otherwise)
 	// Order is the density-weighted local nematic order 2⟨|q|⟩/⟨c⟩ ∈ [0, 1]
@@ -129,17 +144,33 @@ type Diagnostics struct {
 }
 
 // Diagnostics returns the diagnostics of the current state. It allocates
-// nothing; it costs a few FFTs and one flow solve.
-func (m *Model) Diagnostics() Diagnostics {
+// nothing; it costs a few FFTs and one flow solve. With a
+// composition-dependent viscosity the solve starts from the warm start of
+// the next step (see FlowGuess) and leaves it unchanged, so diagnostics do
+// not alter the run; if it fails the error is a *FlowError (Stage 0) and
+// the flow diagnostics are not to be used.
+func (m *Model) Diagnostics() (Diagnostics, error) {
 	d := Diagnostics{Time: m.time, Steps: m.steps}
 	g := m.g
+	var phiR []float64 // φ in real space, if it is needed
+	if m.needPhiReal() || (m.iPhi >= 0 && m.p.Lipid.Model == CahnHilliard) {
+		phiR = m.rf[m.iPhi]
+		m.inv(phiR, m.views[m.iPhi])
+	}
+	var err error
 	if m.flowOn {
-		m.solveCurrent()
+		var w flowWork
+		err = m.solveCurrent(phiR, &w)
+		d.FlowIterations, d.FlowResidual = w.iters, w.maxRes
 		d.ActivePower = g.Dot(m.dfx, m.dux) + g.Dot(m.dfy, m.duy)
 		d.InterfacePower = g.Dot(m.dkx, m.dux) + g.Dot(m.dky, m.duy)
 		u2 := g.MeanSquare(m.dux) + g.MeanSquare(m.duy)
 		d.KineticEnergy = u2 / 2
-		d.Dissipation = m.dissipation(m.dux, m.duy)
+		if m.comp != nil {
+			d.Dissipation = m.comp.Dissipation(m.dux, m.duy)
+		} else {
+			d.Dissipation = m.budget.Dissipation(m.dux, m.duy)
+		}
 		m.inv(m.t1, m.dux)
 		m.inv(m.t2, m.duy)
 		var mx float64
@@ -169,18 +200,17 @@ func (m *Model) Diagnostics() Diagnostics {
 		d.LipidMean = mean
 		d.LipidVariance = g.MeanSquare(phi) - mean*mean
 		if m.p.Lipid.Model == CahnHilliard {
-			m.inv(m.t1, phi)
 			var bulk float64
-			for _, x := range m.t1 {
+			for _, x := range phiR {
 				y := x*x - 1
 				bulk += y * y
 			}
-			bulk /= 4 * float64(len(m.t1))
+			bulk /= 4 * float64(len(phiR))
 			e := m.p.Lipid.Interface
 			d.FreeEnergy = bulk + e*e/2*m.gradSquare(phi)
 		}
 	}
-	return d
+	return d, err
 }
 
 // gradSquare returns ⟨|∇f|²⟩ = Σ_k k²|f_k|² over the full spectrum.
@@ -196,34 +226,4 @@ func (m *Model) gradSquare(f []complex128) float64 {
 		}
 	}
 	return s
-}
-
-// dissipation returns ⟨2η_m E:E⟩ + Σ_k (Γ₊+Γ₋)(k)|û_k|² + ξ⟨|u|²⟩ of the
-// velocity coefficients (ux, uy), with E:E = E₁₁² + E₂₂² + 2E₁₂² from the
-// spectral strain rate (Parseval).
-//
-// TODO(flow): use the flow package's dissipation helper when it lands.
-func (m *Model) dissipation(ux, uy []complex128) float64 {
-	g := m.g
-	kx, ky := g.Kx(), g.Ky()
-	nk := g.Nkx()
-	mem := m.p.Membrane
-	var visc, sub, fr float64
-	for j := 0; j < g.Ny; j++ {
-		b := ky[j]
-		for i := 0; i < nk; i++ {
-			idx := j*nk + i
-			w := g.Weight(i)
-			x, y := ux[idx], uy[idx]
-			a := kx[i]
-			// |E₁₁|² = a²|x|², |E₂₂|² = b²|y|², |E₁₂|² = |a y + b x|²/4.
-			ax, by := a*a*(real(x)*real(x)+imag(x)*imag(x)), b*b*(real(y)*real(y)+imag(y)*imag(y))
-			sr, si := a*real(y)+b*real(x), a*imag(y)+b*imag(x)
-			visc += w * (ax + by + (sr*sr+si*si)/2)
-			u2 := real(x)*real(x) + imag(x)*imag(x) + real(y)*real(y) + imag(y)*imag(y)
-			sub += w * m.gamma[idx] * u2
-			fr += w * u2
-		}
-	}
-	return 2*mem.Viscosity*visc + sub + mem.Friction*fr
 }

@@ -55,6 +55,28 @@
 // obeys ∂tφ + ∇·(uφ) = D_φ∇²φ (Passive) or M∇²μ with μ = φ³ − φ − ε²∇²φ
 // (CahnHilliard [Cahn & Hilliard, J. Chem. Phys. 28, 258 (1958)]).
 //
+// # Composition-dependent viscosity
+//
+// With Params.Viscosity (a flow.ViscosityLaw: log-linear or linear mixing
+// of the phase viscosities, φ clamped to [−1, 1]; MODEL.md §3) the membrane
+// viscosity is η_m(φ(x)) and the flow is solved iteratively by a
+// [CompositionFlow], by default a [ViscosityFlow] (flow.VarSolver:
+// preconditioned conjugate gradients to a relative residual
+// Params.Solver.Tolerance). Before every flow solve (one per right-hand
+// side, four per step, and one for Diagnostics or UpdateViews) the
+// viscosity is set from the real-space φ of the state being evaluated,
+// which the right-hand side computes anyway. The solves within a step
+// start from the previous stage's velocity; the first solve of a step,
+// and the diagnostics' solve, start from the velocity of the last solve of
+// the previous step ([Model.FlowGuess]), so a step is a function of the
+// state and that velocity alone: diagnostics do not perturb a run, and a
+// checkpoint holding the velocity resumes bit for bit. The solver's work
+// is reported per step in [StepInfo] and a failed solve stops the step
+// with a [FlowError]. The dissipation of the diagnostics is ⟨2η_m(x) E:E⟩
+// + Σ_k Γ|û_k|² + ξ⟨|u|²⟩, equal to the power ⟨f·u⟩ up to the solver's
+// residual. The step-size limit of the active growth rate uses the smaller
+// phase viscosity.
+//
 // # Numerics
 //
 // Fields are stored as box-normalised spectral coefficients (package
@@ -73,14 +95,21 @@
 // kinetic model (each evolved field to real space, u, uy, ω, E₁₁, E₁₂,
 // and the flux and rotation terms back); Cahn–Hilliard adds 4, its
 // back-reaction 4 and the partition drift 2. A step takes four
-// evaluations; [StepInfo.FFTs] reports the count. Transforms use the
-// plan's threads; the pointwise kernels run on one goroutine.
+// evaluations; [StepInfo.FFTs] reports the count. A composition-dependent
+// viscosity adds, per solve, 4 FFTs per PCG iteration and 8 for the
+// initial and final residual, which StepInfo.FFTs does not count (at
+// contrast 10 and tolerance 10⁻⁸ about 20 iterations per warm-started
+// solve, so a moment-model step costs about 7 times the uniform one;
+// BenchmarkVariableViscosityStep). Transforms use the plan's threads; the
+// pointwise kernels run on one goroutine.
 //
 // # Ownership and allocation
 //
 // A Model owns its state and scratch; a Stepper owns the stage buffers and
 // coefficient tables. [Stepper.Step], [Model.Diagnostics] and
-// [Model.UpdateViews] allocate nothing. Views returned by the model are
+// [Model.UpdateViews] allocate nothing (given a FlowSolver or
+// CompositionFlow and a Source that allocate nothing; ViscosityFlow
+// does not). Views returned by the model are
 // owned by it and must not be modified. Nothing here is safe for
 // concurrent use.
 package fields

@@ -35,7 +35,16 @@ type StepInfo struct {
 	Level   int     // its level on the ladder DtMax·2^(−Level/LevelsPerOctave)
 	Limit   Limit   // what set it
 	Allowed float64 // the largest step the limits allow (≥ Dt unless Fixed), τ₀
-	FFTs    int     // FFTs executed by the step
+	FFTs    int     // FFTs executed by the step, not counting those inside a CompositionFlow
+
+	// The work of the flow solves of a composition-dependent viscosity (all
+	// zero otherwise): FlowSolves solves (4 when the flow is on),
+	// FlowIterations iterations over all of them, FlowMaxIterations the
+	// most of one, and FlowResidual the largest final relative residual
+	// ‖Pf − Au‖/‖Pf‖. A VarSolver iteration costs 4 FFTs, and each solve
+	// 8 more for its initial and final residual.
+	FlowSolves, FlowIterations, FlowMaxIterations int
+	FlowResidual                                  float64
 }
 
 // coef holds the ETDRK4 coefficients of one linear rate L for a step h
@@ -100,7 +109,7 @@ type coefSlot struct {
 // from the limits of [Stepping] on a quantised ladder, so coefficients are
 // recomputed only when the level changes to one not in the cache. The
 // stepper owns all its scratch: Step allocates nothing (given a FlowSolver
-// and Source that allocate nothing).
+// or CompositionFlow and a Source that allocate nothing).
 //
 // Only the modes the 2/3 rule keeps are updated; the others stay zero in
 // the state and every stage buffer, so the state stays band-limited.
@@ -244,16 +253,21 @@ func (s *Stepper) choose(dt float64) int {
 }
 
 // Step advances the model by one ETDRK4 step and returns what it did. On
-// error (a non-finite field, or a step limit below the floor) the state is
-// unchanged.
+// error (a non-finite field, a step limit below the floor, or a failed
+// flow solve, reported as a *FlowError naming the stage) the model is
+// unchanged: its state, clock, flow warm start and the stepper's level.
 func (s *Stepper) Step() (StepInfo, error) {
 	m := s.m
 	f0 := m.ffts
 	u := m.state
 	t := m.time
+	m.work = flowWork{}
+	if m.comp != nil {
+		m.primeGuess()
+	}
 	st, err := m.rhs(s.nu, u, t, true)
 	if err != nil {
-		return StepInfo{}, err
+		return StepInfo{}, flowStage(err, 1, s.LevelDt(s.level))
 	}
 	allowed, lim := s.allowed(st)
 	j := s.choose(allowed)
@@ -266,29 +280,49 @@ func (s *Stepper) Step() (StepInfo, error) {
 	} else if j > 0 && s.LevelDt(j-1) <= allowed {
 		lim = LimitRamp
 	}
-	s.level = j
 	h := s.LevelDt(j)
 	tab := s.coefs(j)
 
+	// The state u is written only by the last stage, so that a failed
+	// evaluation leaves it unchanged.
 	s.combine(tab, stageA, u)
-	m.rhs(s.nb, s.sa, t+h/2, false)
+	if _, err := m.rhs(s.nb, s.sa, t+h/2, false); err != nil {
+		return StepInfo{}, flowStage(err, 2, h)
+	}
 	s.combine(tab, stageB, u)
-	m.rhs(s.nb, u, t+h/2, false)
+	if _, err := m.rhs(s.nb, s.sa, t+h/2, false); err != nil {
+		return StepInfo{}, flowStage(err, 3, h)
+	}
 	s.combine(tab, stageC, u)
-	m.rhs(s.nb, s.sa, t+h, false)
+	if _, err := m.rhs(s.nb, s.sa, t+h, false); err != nil {
+		return StepInfo{}, flowStage(err, 4, h)
+	}
 	s.combine(tab, stageD, u)
 
+	s.level = j
+	m.commitGuess()
 	m.time = t + h
 	m.steps++
-	return StepInfo{Step: m.steps, Time: m.time, Dt: h, Level: j, Limit: lim, Allowed: allowed, FFTs: int(m.ffts - f0)}, nil
+	w := m.work
+	return StepInfo{Step: m.steps, Time: m.time, Dt: h, Level: j, Limit: lim, Allowed: allowed, FFTs: int(m.ffts - f0),
+		FlowSolves: w.solves, FlowIterations: w.iters, FlowMaxIterations: w.maxIters, FlowResidual: w.maxRes}, nil
+}
+
+// flowStage fills in the stage and step size of a *FlowError; other errors are
+// returned unchanged.
+func flowStage(err error, stage int, dt float64) error {
+	if fe, ok := err.(*FlowError); ok {
+		fe.Stage, fe.Dt = stage, dt
+	}
+	return err
 }
 
 type stage int
 
 const (
-	stageA stage = iota // sa = e2·u + q·Nu;           acc = e·u + f1·Nu
-	stageB              // u = e2·u + q·Na  (= b);      acc += 2f2·Na
-	stageC              // sa = e2·a + q·(2Nb − Nu) (= c); acc += 2f2·Nb
+	stageA stage = iota // sa = e2·u + q·Nu (= a);           acc = e·u + f1·Nu
+	stageB              // sa = e2·u + q·Na (= b);           acc += 2f2·Na
+	stageC              // sa = e2·a + q·(2Nb − Nu) (= c);   acc += 2f2·Nb, a recomputed from u, Nu
 	stageD              // u = acc + f3·Nc
 )
 
@@ -317,16 +351,17 @@ func (s *Stepper) combine(tab [][]coef, st stage, u []complex128) {
 				for i, k := range kIdx {
 					c := &t[k]
 					x, n := uf[i], nb[i]
-					uf[i] = complex(c.e2*real(x)+c.q*real(n), c.e2*imag(x)+c.q*imag(n))
+					sa[i] = complex(c.e2*real(x)+c.q*real(n), c.e2*imag(x)+c.q*imag(n))
 					f2 := 2 * c.f2
 					acc[i] += complex(f2*real(n), f2*imag(n))
 				}
 			case stageC:
 				for i, k := range kIdx {
 					c := &t[k]
-					a, n, n0 := sa[i], nb[i], nu[i]
+					x, n, n0 := uf[i], nb[i], nu[i]
+					ar, ai := c.e2*real(x)+c.q*real(n0), c.e2*imag(x)+c.q*imag(n0) // a, as in stage A
 					r, im := 2*real(n)-real(n0), 2*imag(n)-imag(n0)
-					sa[i] = complex(c.e2*real(a)+c.q*r, c.e2*imag(a)+c.q*im)
+					sa[i] = complex(c.e2*ar+c.q*r, c.e2*ai+c.q*im)
 					f2 := 2 * c.f2
 					acc[i] += complex(f2*real(n), f2*imag(n))
 				}

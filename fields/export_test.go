@@ -19,3 +19,14 @@ func Coef(l, h float64) (e, e2, q, f1, f2, f3 float64) {
 	c := etdCoef(l, h)
 	return c.e, c.e2, c.q, c.f1, c.f2, c.f3
 }
+
+// DiagnosticForce returns a copy of the total force density (active plus
+// Korteweg) of the last Diagnostics or UpdateViews.
+func (m *Model) DiagnosticForce() (fx, fy []complex128) {
+	fx, fy = make([]complex128, m.n), make([]complex128, m.n)
+	for i := range fx {
+		fx[i] = m.dfx[i] + m.dkx[i]
+		fy[i] = m.dfy[i] + m.dky[i]
+	}
+	return fx, fy
+}

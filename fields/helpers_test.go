@@ -83,3 +83,21 @@ func field(t testing.TB, m *fields.Model, name string) int {
 }
 
 func relErr(got, want float64) float64 { return math.Abs(got-want) / math.Abs(want) }
+
+// diag returns the diagnostics and fails the test on error.
+func (r rig) diag(t testing.TB) fields.Diagnostics {
+	t.Helper()
+	d, err := r.m.Diagnostics()
+	if err != nil {
+		t.Fatal(err)
+	}
+	return d
+}
+
+// views updates the views and fails the test on error.
+func (r rig) views(t testing.TB) {
+	t.Helper()
+	if err := r.m.UpdateViews(); err != nil {
+		t.Fatal(err)
+	}
+}

@@ -94,7 +94,7 @@ func TestCahnHilliardInterface(t *testing.T) {
 		t.Fatal(err)
 	}
 	r.run(t, 4000)
-	r.m.UpdateViews()
+	r.views(t)
 	phi := r.m.Views()[0].Data
 	g := r.m.Grid()
 	var maxErr float64
@@ -105,7 +105,7 @@ func TestCahnHilliardInterface(t *testing.T) {
 		want := math.Tanh(x/w) * math.Tanh((L/2-x)/w) * math.Tanh((L-x)/w)
 		maxErr = math.Max(maxErr, math.Abs(phi[i]-want))
 	}
-	d := r.m.Diagnostics()
+	d := r.diag(t)
 	tension := d.FreeEnergy * g.Lx * g.Ly / (2 * g.Ly)
 	wantT := 2 * math.Sqrt2 * e / 3
 	kmax, _ := g.KMaxDealiased()
@@ -142,11 +142,11 @@ func TestKortewegEnergy(t *testing.T) {
 	if err := r.m.AddMode("phi", 1, 2, 0.2, 0); err != nil {
 		t.Fatal(err)
 	}
-	d0 := r.m.Diagnostics()
+	d0 := r.diag(t)
 	r.run(t, 10)
-	mid := r.m.Diagnostics()
+	mid := r.diag(t)
 	r.run(t, 10)
-	d1 := r.m.Diagnostics()
+	d1 := r.diag(t)
 	dF := p.Lipid.Energy * (d1.FreeEnergy - d0.FreeEnergy)
 	work := -(d1.Time - d0.Time) / 6 * (d0.InterfacePower + 4*mid.InterfacePower + d1.InterfacePower)
 	t.Logf("A ΔF = %.12g, −∫⟨f_φ·u⟩dt = %.12g, relative %.1e", dF, work, relErr(dF, work))

@@ -172,7 +172,7 @@ func (pb problem) run(t testing.TB, n, steps int, T float64) float64 {
 	}
 	r.m.SetSource(src)
 	r.run(t, steps)
-	r.m.UpdateViews()
+	r.views(t)
 	var worst float64
 	for _, v := range r.m.Views() {
 		ps, ok := pb.exact[v.Name]

@@ -8,11 +8,12 @@ import (
 	"github.com/memix-sim/memix/spectral"
 )
 
-// FlowSolver maps a force density to the membrane velocity, both as
-// box-normalised spectral coefficients. [flow.Solver] (uniform viscosity) is
-// one; a variable-viscosity solver with the same method may be passed
-// instead. Solve must allow ux to alias fx and uy to alias fy, and must not
-// allocate if the model's steps are to allocate nothing.
+// FlowSolver maps a force density to the membrane velocity for a uniform
+// membrane viscosity, both as box-normalised spectral coefficients.
+// [flow.Solver] is one. Solve must allow ux to alias fx and uy to alias
+// fy, and must not allocate if the model's steps are to allocate nothing.
+// A viscosity that depends on the composition needs a [CompositionFlow]
+// instead.
 type FlowSolver interface {
 	Solve(ux, uy, fx, fy []complex128)
 }
@@ -50,10 +51,12 @@ type Model struct {
 	p      Params
 	g      *spectral.Grid
 	plan   spectral.Plan
-	flow   FlowSolver
-	nf     int // evolved (real) fields
-	n      int // spectral length
-	stride int // spacing of fields in a state vector (n rounded up to 64 bytes)
+	flow   FlowSolver        // uniform viscosity (nil with comp)
+	comp   CompositionFlow   // composition-dependent viscosity (nil otherwise)
+	budget *flow.PowerBudget // dissipation for a uniform viscosity
+	nf     int               // evolved (real) fields
+	n      int               // spectral length
+	stride int               // spacing of fields in a state vector (n rounded up to 64 bytes)
 
 	names, units []string
 	ops          []linOp // distinct linear operators
@@ -90,34 +93,109 @@ type Model struct {
 	rows                    []int        // spectral rows with modes the 2/3 rule keeps
 	ncol                    int          // columns 0 … ncol−1 are kept in those rows
 	rhsViews                [][]complex128
-	gamma                   []float64 // Γ₊(k) + Γ₋(k) per spectral index (diagnostics)
 	dfx, dfy, dkx, dky      []complex128
 	dux, duy                []complex128
 	viewData                [][]float64
 	viewList                []View
 	viewQ11, viewQ12        int // index into viewList of Q₁₁, Q₁₂ (−1 if absent)
 	viewUx, viewUy, viewVor int
+
+	// Composition-dependent viscosity: the solver work of the current step,
+	// the velocity the first solve of the next step starts from (the last
+	// solve of the previous step) and the velocity of the latest solve,
+	// which becomes the warm start when its step succeeds.
+	work               flowWork
+	warmX, warmY       []complex128
+	pendX, pendY       []complex128
+	haveWarm, havePend bool
 }
 
-// NewModel returns the model of p on the grid of plan, with the flow solved
-// by fs, or by a [flow.Solver] for p.Membrane when fs is nil. The plan's
-// grid must match p.Grid. It returns an error if p is invalid.
+// flowWork accumulates the work of composition-dependent flow solves.
+type flowWork struct {
+	solves, iters, maxIters int
+	maxRes                  float64
+}
+
+func (w *flowWork) add(r flow.PCGResult) {
+	w.solves++
+	w.iters += r.Iterations
+	w.maxIters = max(w.maxIters, r.Iterations)
+	w.maxRes = math.Max(w.maxRes, r.Residual)
+}
+
+// NewModel returns the model of p on the grid of plan. With a uniform
+// viscosity (p.Viscosity zero) the flow is solved by fs, or by a
+// [flow.Solver] for p.Membrane when fs is nil. With a composition-dependent
+// viscosity fs must be nil, and the flow is solved by a [ViscosityFlow] for
+// p.Membrane, p.Viscosity and p.Solver on plan (see [NewCompositionModel]
+// to supply another solver). The plan's grid must match p.Grid. It returns
+// an error if p is invalid.
 func NewModel(p Params, plan spectral.Plan, fs FlowSolver) (*Model, error) {
-	if err := p.Validate(); err != nil {
+	if err := checkModel(p, plan); err != nil {
 		return nil, err
+	}
+	if !p.VariableViscosity() {
+		return newModel(p, plan, fs, nil)
+	}
+	if fs != nil {
+		return nil, fmt.Errorf("fields: NewModel was given a uniform-viscosity FlowSolver for the %v viscosity rule of Params.Viscosity: pass nil, or a CompositionFlow to NewCompositionModel", p.Viscosity.Rule)
+	}
+	cf, err := NewViscosityFlow(plan, p.Membrane, p.Viscosity, p.Solver)
+	if err != nil {
+		return nil, err
+	}
+	return newModel(p, plan, nil, cf)
+}
+
+// NewCompositionModel returns the model of p, whose viscosity must depend
+// on the composition (p.Viscosity.Rule not constant), with the flow solved
+// by cf; p.Viscosity still sets the step-size limit of the active growth
+// rate (through its smaller phase viscosity). A nil cf is the
+// [ViscosityFlow] NewModel would build. The plan's grid must match p.Grid.
+// It returns an error if p is invalid.
+func NewCompositionModel(p Params, plan spectral.Plan, cf CompositionFlow) (*Model, error) {
+	if err := checkModel(p, plan); err != nil {
+		return nil, err
+	}
+	if !p.VariableViscosity() {
+		return nil, fmt.Errorf("fields: NewCompositionModel needs a composition-dependent viscosity (Params.Viscosity.Rule is %v); use NewModel", p.Viscosity.Rule)
+	}
+	if cf == nil {
+		return NewModel(p, plan, nil)
+	}
+	return newModel(p, plan, nil, cf)
+}
+
+// checkModel validates p and checks the plan's grid against it.
+func checkModel(p Params, plan spectral.Plan) error {
+	if err := p.Validate(); err != nil {
+		return err
 	}
 	g := plan.Grid()
 	if gs := p.Grid; g.Nx != gs.Nx || g.Ny != gs.Ny || g.Lx != gs.Lx || g.Ly != gs.Ly {
-		return nil, fmt.Errorf("fields: plan grid %v does not match Params.Grid %d×%d on %g×%g", g, gs.Nx, gs.Ny, gs.Lx, gs.Ly)
+		return fmt.Errorf("fields: plan grid %v does not match Params.Grid %d×%d on %g×%g", g, gs.Nx, gs.Ny, gs.Lx, gs.Ly)
 	}
-	if fs == nil {
+	return nil
+}
+
+// newModel builds the model of the valid p with either the uniform solver
+// fs (nil: a flow.Solver for p.Membrane) or the composition-dependent cf.
+func newModel(p Params, plan spectral.Plan, fs FlowSolver, cf CompositionFlow) (*Model, error) {
+	g := plan.Grid()
+	var budget *flow.PowerBudget
+	if cf == nil {
 		s, err := flow.NewSolver(g, p.Membrane)
 		if err != nil {
 			return nil, err
 		}
-		fs = s
+		if fs == nil {
+			fs = s
+		}
+		// The dissipation of a uniform viscosity is that of p.Membrane,
+		// whichever solver computes the flow.
+		budget = flow.NewPowerBudget(s)
 	}
-	m := &Model{p: p, g: g, plan: plan, flow: fs, n: g.SpecLen(), iC: -1, iQ11: -1, iQ12: -1, iPhi: -1}
+	m := &Model{p: p, g: g, plan: plan, flow: fs, comp: cf, budget: budget, n: g.SpecLen(), iC: -1, iQ11: -1, iQ12: -1, iPhi: -1}
 	m.stride = (m.n + 3) &^ 3
 	in, l := p.Inclusions, p.Lipid
 
@@ -169,10 +247,14 @@ func NewModel(p Params, plan spectral.Plan, fs FlowSolver) (*Model, error) {
 	m.incReal = hasInc && (m.flowOn || m.drift)
 	m.phiReal = m.iPhi >= 0 && (m.flowOn || l.Model == CahnHilliard)
 	if hasInc && in.Alignment != 0 && in.Activity != 0 {
+		// The rate for the smallest viscosity bounds the rates of the
+		// uniform states a composition-dependent viscosity passes through.
+		mem := p.Membrane
+		mem.Viscosity = p.minViscosity()
 		var smax float64
 		for idx, k2 := range g.K2() {
 			if g.Kept(idx) && k2 > 0 {
-				if d := p.Membrane.D(math.Sqrt(k2)); d > 0 {
+				if d := mem.D(math.Sqrt(k2)); d > 0 {
 					smax = math.Max(smax, k2/d)
 				}
 			}
@@ -201,10 +283,10 @@ func NewModel(p Params, plan spectral.Plan, fs FlowSolver) (*Model, error) {
 			m.rows = append(m.rows, j)
 		}
 	}
-	m.gamma = make([]float64, ns)
-	for idx, k2 := range g.K2() {
-		k := math.Sqrt(k2)
-		m.gamma[idx] = p.Membrane.Upper.Gamma(k) + p.Membrane.Lower.Gamma(k)
+	if cf != nil {
+		for _, v := range []*[]complex128{&m.warmX, &m.warmY, &m.pendX, &m.pendY} {
+			*v = make([]complex128, ns)
+		}
 	}
 	m.initViews()
 	m.SetUniform(0)
@@ -349,7 +431,16 @@ func (m *Model) rhs(dst, src []complex128, t float64, check bool) (rhsStats, err
 	// Flow.
 	if m.flowOn {
 		m.force(m.s1, m.s2, sv, phiR, true)
-		m.flow.Solve(m.s1, m.s2, m.s1, m.s2)
+		if m.comp != nil {
+			if err := m.solveComp(m.s1, m.s2, phiR, &m.work); err != nil {
+				return st, err
+			}
+			copy(m.pendX, m.s1)
+			copy(m.pendY, m.s2)
+			m.havePend = true
+		} else {
+			m.flow.Solve(m.s1, m.s2, m.s1, m.s2)
+		}
 		m.velocityReal()
 	}
 	vx, vy := m.ux, m.uy
@@ -486,32 +577,92 @@ func (m *Model) korteweg(kx, ky, phi []complex128, phiR []float64) {
 // rate) in real space from the velocity coefficients in s1, s2, which it
 // destroys. It uses s3, s4, s5.
 func (m *Model) velocityReal() {
-	g := m.g
-	kx, ky := g.Kx(), g.Ky()
-	nk := g.Nkx()
-	// TODO(flow): replace by the flow package's vorticity and strain-rate
-	// helpers when they land.
-	for j := 0; j < g.Ny; j++ {
-		row := j * nk
-		b := ky[j]
-		for i := 0; i < nk; i++ {
-			a := kx[i]
-			x, y := m.s1[row+i], m.s2[row+i]
-			// ω = ∂x uy − ∂y ux, E₁₁ = ∂x ux, E₁₂ = (∂x uy + ∂y ux)/2.
-			wv := complex(a*real(y)-b*real(x), a*imag(y)-b*imag(x))
-			m.s3[row+i] = complex(-imag(wv), real(wv))
-			m.s4[row+i] = complex(-a*imag(x), a*real(x))
-			sv := complex(a*real(y)+b*real(x), a*imag(y)+b*imag(x))
-			m.s5[row+i] = complex(-imag(sv)/2, real(sv)/2)
-		}
-	}
-	m.invOver(m.w, m.s3)
 	if m.needE {
+		flow.Gradients(m.g, m.s3, m.s4, m.s5, m.s1, m.s2)
 		m.invOver(m.e11, m.s4)
 		m.invOver(m.e12, m.s5)
+	} else {
+		flow.Vorticity(m.g, m.s3, m.s1, m.s2, m.s4)
 	}
+	m.invOver(m.w, m.s3)
 	m.invOver(m.ux, m.s1)
 	m.invOver(m.uy, m.s2)
+}
+
+// solveComp sets (fx, fy) to the velocity driven by the force (fx, fy)
+// with the composition-dependent solver, the viscosity set from the
+// real-space composition phiR, and adds the work to w. A failure is
+// returned as a *FlowError for the current step (the stepper fills in the
+// stage and step size).
+func (m *Model) solveComp(fx, fy []complex128, phiR []float64, w *flowWork) error {
+	err := m.comp.SetComposition(phiR)
+	if err == nil {
+		var r flow.PCGResult
+		r, err = m.comp.Solve(fx, fy, fx, fy)
+		w.add(r)
+	}
+	if err != nil {
+		return &FlowError{Step: m.steps, Time: m.time, Err: err}
+	}
+	return nil
+}
+
+// primeGuess makes the next composition-dependent solve start from the
+// warm-start velocity (zero if there is none), so that each step, and each
+// diagnostics solve, depends only on the state and the warm start, not on
+// what was solved in between.
+func (m *Model) primeGuess() {
+	if m.haveWarm {
+		m.comp.SetGuess(m.warmX, m.warmY)
+	} else {
+		m.comp.SetGuess(nil, nil)
+	}
+}
+
+// commitGuess makes the velocity of the last solve of a successful step the
+// warm start of the next.
+func (m *Model) commitGuess() {
+	if m.comp == nil || !m.havePend {
+		return
+	}
+	m.warmX, m.pendX = m.pendX, m.warmX
+	m.warmY, m.pendY = m.pendY, m.warmY
+	m.haveWarm, m.havePend = true, false
+}
+
+// FlowGuess returns the velocity coefficients (ux, uy) that the first flow
+// solve of the next step starts from, with a composition-dependent
+// viscosity: the velocity of the last solve of the previous step. The
+// slices are owned by the model and must not be modified. ok is false if
+// there is none (uniform viscosity, no step taken, or no flow). A
+// checkpoint that stores them and a resume that restores them with
+// SetFlowGuess continue bit for bit; without them the first solve after a
+// resume starts from zero and the run departs from the uninterrupted one
+// at the level of the solver tolerance.
+func (m *Model) FlowGuess() (ux, uy []complex128, ok bool) {
+	if !m.haveWarm {
+		return nil, nil, false
+	}
+	return m.warmX, m.warmY, true
+}
+
+// SetFlowGuess copies (ux, uy) into the velocity the next step's first flow
+// solve starts from (see FlowGuess); nil slices clear it. It panics on a
+// wrong length, or if the viscosity does not depend on the composition.
+func (m *Model) SetFlowGuess(ux, uy []complex128) {
+	if m.comp == nil {
+		panic("fields: SetFlowGuess on a model with a uniform viscosity")
+	}
+	if ux == nil && uy == nil {
+		m.haveWarm = false
+		return
+	}
+	if len(ux) != m.n || len(uy) != m.n {
+		panic(fmt.Sprintf("fields: SetFlowGuess lengths %d, %d, want %d", len(ux), len(uy), m.n))
+	}
+	copy(m.warmX, ux)
+	copy(m.warmY, uy)
+	m.haveWarm = true
 }
 
 // stats returns the step-size statistics and checks the velocity fields

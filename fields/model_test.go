@@ -91,10 +91,10 @@ func TestConservation(t *testing.T) {
 		if err := r.m.InitLipidRandom(0.1, 0.5, rng); err != nil {
 			t.Fatal(err)
 		}
-		d0 := r.m.Diagnostics()
+		d0 := r.diag(t)
 		const steps = 300
 		r.run(t, steps)
-		d := r.m.Diagnostics()
+		d := r.diag(t)
 		t.Logf("%v: ⟨c⟩ − 1 = %.3g, ⟨φ⟩ change %.3g after t = %.3g, order %.3g, KE %.3g",
 			c.model, d.MeanDensity-1, d.LipidMean-d0.LipidMean, d.Time, d.Order, d.KineticEnergy)
 		if math.Abs(d.MeanDensity-1) > steps*eps || math.Abs(d.LipidMean-d0.LipidMean) > steps*eps {
@@ -128,7 +128,7 @@ func TestPowerBalance(t *testing.T) {
 			if err := r.m.InitLipidRandom(0, 0.8, rng); err != nil {
 				t.Fatal(err)
 			}
-			d := r.m.Diagnostics()
+			d := r.diag(t)
 			in := d.ActivePower + d.InterfacePower
 			e := relErr(in, d.Dissipation)
 			t.Logf("%s/%v: relative imbalance %.1e", name, model, e)
@@ -160,7 +160,7 @@ func TestKineticTwoHarmonicsIsTruncatedMoments(t *testing.T) {
 			t.Fatal(err)
 		}
 		r.run(t, 100)
-		r.m.UpdateViews()
+		r.views(t)
 		return r.m
 	}
 	mo, ki := run(fields.Moments), run(fields.Kinetic)

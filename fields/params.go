@@ -176,11 +176,39 @@ type Params struct {
 	// Membrane is the reduced membrane: Viscosity in units of η_m (1 unless
 	// the caller chooses another unit), subphase viscosities η·ℓ₀/η_m,
 	// depths H/ℓ₀, friction ξℓ₀²/η_m.
-	Membrane   flow.Membrane
+	Membrane flow.Membrane
+	// Viscosity makes the membrane viscosity depend on the lipid
+	// composition: η_m(x) = Viscosity.At(φ(x)), with PhaseA the reduced
+	// viscosity of the phase φ = +1 and PhaseB that of φ = −1 (units of
+	// η_m, like Membrane.Viscosity; φ is clamped to [−1, 1]). The zero
+	// value (rule constant, both phases 0) keeps the uniform
+	// Membrane.Viscosity and the direct Fourier solve. A rule other than
+	// constant needs a lipid model; Membrane then supplies the subphases
+	// and friction, and its Viscosity is not used by the flow.
+	Viscosity flow.ViscosityLaw
+	// Solver configures the iterative flow solve of a composition-dependent
+	// viscosity (relative-residual tolerance, iteration cap, preconditioner
+	// viscosity, warm or cold starts); the zero value selects the flow
+	// package's defaults. Ignored for a uniform viscosity.
+	Solver     flow.PCGOptions
 	Inclusions Inclusions
 	Lipid      Lipid
 	Grid       GridSpec
 	Stepping   Stepping
+}
+
+// VariableViscosity reports whether the membrane viscosity depends on the
+// composition (Viscosity.Rule is not constant).
+func (p Params) VariableViscosity() bool { return p.Viscosity.Rule != flow.ConstantViscosity }
+
+// minViscosity returns the smallest membrane viscosity the parameters
+// allow: Membrane.Viscosity, or the smaller phase viscosity of a
+// composition-dependent law (which clamps φ, so η_m stays between them).
+func (p Params) minViscosity() float64 {
+	if p.VariableViscosity() {
+		return math.Min(p.Viscosity.PhaseA, p.Viscosity.PhaseB)
+	}
+	return p.Membrane.Viscosity
 }
 
 func finite(x float64) bool { return !math.IsNaN(x) && !math.IsInf(x, 0) }
@@ -192,6 +220,21 @@ func (p Params) Validate() error {
 	bad := func(format string, a ...any) { errs = append(errs, fmt.Errorf("fields: "+format, a...)) }
 	if err := p.Membrane.Validate(); err != nil {
 		bad("Membrane: %w", err)
+	}
+	if v := p.Viscosity; !p.VariableViscosity() {
+		if v.PhaseA != 0 || v.PhaseB != 0 {
+			bad("Viscosity = {rule %v, PhaseA %g, PhaseB %g} (η_m units): the phase viscosities must be 0 with the constant rule, which uses Membrane.Viscosity; choose the log-linear or linear rule", v.Rule, v.PhaseA, v.PhaseB)
+		}
+	} else {
+		if err := v.Validate(); err != nil {
+			bad("Viscosity (phase viscosities in η_m units): %w", err)
+		}
+		if p.Lipid.Model == NoLipid {
+			bad("Viscosity.Rule = %v: a composition-dependent viscosity needs a lipid model (Lipid.Model is %v); use the constant rule or choose a lipid model", v.Rule, p.Lipid.Model)
+		}
+		if err := p.Solver.Validate(); err != nil {
+			bad("Solver: %w", err)
+		}
 	}
 	in := p.Inclusions
 	switch in.Model {

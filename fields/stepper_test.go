@@ -28,7 +28,7 @@ func TestAdaptiveStep(t *testing.T) {
 	levels := map[int]bool{}
 	changes, prev := 0, -1
 	for i := 0; i < 60; i++ {
-		d := r.m.Diagnostics()
+		d := r.diag(t)
 		info, err := r.s.Step()
 		if err != nil {
 			t.Fatal(err)
@@ -128,7 +128,7 @@ func TestInitialConditions(t *testing.T) {
 		if err := r.m.InitAligned(0.3, 0.7); err != nil {
 			t.Fatal(err)
 		}
-		d := r.m.Diagnostics()
+		d := r.diag(t)
 		// The local order is a grid average: round-off n·ε with n points.
 		tol := float64(r.m.Grid().RealLen()) * eps
 		if math.Abs(d.Order-0.7) > tol || math.Abs(d.GlobalOrder-0.7) > tol || math.Abs(d.Director-0.3) > tol || d.MeanDensity != 1 {
@@ -154,7 +154,7 @@ func TestInitialConditions(t *testing.T) {
 		if err := init.f(); err != nil {
 			t.Fatal(err)
 		}
-		r.m.UpdateViews()
+		r.views(t)
 		phi := r.m.Views()[0].Data
 		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, v := range phi {
@@ -166,7 +166,7 @@ func TestInitialConditions(t *testing.T) {
 		if lo < -1.001 || hi > 1.001 || lo > -0.99 || hi < 0.99 {
 			t.Errorf("%s: φ in [%g, %g], want both phases, within [−1, 1]", init.name, lo, hi)
 		}
-		if d := r.m.Diagnostics(); init.name != "disks" && math.Abs(d.LipidMean) > 1e-15 {
+		if d := r.diag(t); init.name != "disks" && math.Abs(d.LipidMean) > 1e-15 {
 			t.Errorf("%s: ⟨φ⟩ = %g, want 0 by symmetry", init.name, d.LipidMean)
 		}
 	}

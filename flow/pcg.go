@@ -76,6 +76,13 @@ type PCGOptions struct {
 	ColdStart bool
 }
 
+// Validate returns an error naming the first option out of its valid
+// range, as NewVarSolver would.
+func (o PCGOptions) Validate() error {
+	_, err := o.withDefaults()
+	return err
+}
+
 // withDefaults validates o and fills in the defaults.
 func (o PCGOptions) withDefaults() (PCGOptions, error) {
 	if !(o.Tolerance >= 0 && o.Tolerance < 1) {

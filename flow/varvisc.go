@@ -69,8 +69,8 @@ import (
 // O(sqrt(contrast)) iterations. Without subphase or friction, η̄ only
 // scales the preconditioner, which leaves the CG iterates unchanged.
 //
-// A VarSolver owns all its scratch: Solve, SetViscosity, SetGuess and Apply
-// allocate nothing. It is not safe for concurrent use, and the plan it was
+// A VarSolver owns all its scratch: Solve, SetViscosity, SetGuess, Apply
+// and DissipationParts allocate nothing. It is not safe for concurrent use, and the plan it was
 // given must not be used concurrently with its methods.
 type VarSolver struct {
 	g    *spectral.Grid
@@ -79,6 +79,7 @@ type VarSolver struct {
 	opt  PCGOptions
 
 	damp  []float64 // Γ₊(|k|) + Γ₋(|k|) + ξ per spectral index; D(0) at k = 0
+	gamma []float64 // Γ₊(|k|) + Γ₋(|k|) per spectral index (dissipation)
 	hasD0 bool      // D(0) > 0: the uniform mode belongs to the solution space
 
 	twoEta         []float64 // 2η_m at each grid point
@@ -117,10 +118,12 @@ func NewVarSolver(p spectral.Plan, m Membrane, opt PCGOptions) (*VarSolver, erro
 	ns, nr := g.SpecLen(), g.RealLen()
 	s := &VarSolver{g: g, plan: p, m: m, opt: opt}
 	s.damp = make([]float64, ns)
+	s.gamma = make([]float64, ns)
 	k2 := g.K2()
 	for idx := range s.damp {
 		k := math.Sqrt(k2[idx])
-		s.damp[idx] = m.Upper.Gamma(k) + m.Lower.Gamma(k) + m.Friction
+		s.gamma[idx] = m.Upper.Gamma(k) + m.Lower.Gamma(k)
+		s.damp[idx] = s.gamma[idx] + m.Friction
 	}
 	s.hasD0 = s.damp[0] > 0
 	s.twoEta = make([]float64, nr)
@@ -278,6 +281,13 @@ func (s *VarSolver) Solve(ux, uy, fx, fy []complex128) (PCGResult, error) {
 	s.checkSpec(ux, uy, fx, fy, "Solve")
 	copy(s.bx, fx)
 	copy(s.by, fy)
+	// Project twice: the longitudinal round-off one projection leaves is
+	// relative to f, not to P f. When f is longitudinal to round-off (a
+	// single mode of Q along its wavevector, say), P f is of the size of
+	// that round-off, and a b with a longitudinal part of its own size,
+	// which A cannot produce, would keep the relative residual near 1. The
+	// second pass leaves a longitudinal part of order ε‖b‖.
+	s.project(s.bx, s.by)
 	s.project(s.bx, s.by)
 	if !s.haveGuess || s.opt.ColdStart {
 		clear(s.xx)
@@ -288,6 +298,41 @@ func (s *VarSolver) Solve(ux, uy, fx, fy []complex128) (PCGResult, error) {
 	copy(uy, s.xy)
 	s.haveGuess = err == nil
 	return PCGResult{Iterations: iters, Residual: res}, err
+}
+
+// DissipationParts returns the dissipation rates of the velocity (ux, uy)
+// with the current viscosity field, box averages as in PowerBudget: in the
+// membrane, ⟨2η_m(x) E:E⟩ = ⟨2η_m (E₁₁² + 2E₁₂² + E₂₂²)⟩ with the strain
+// rate of StrainRate (E₂₂ = ∂y u_y is computed, not assumed to be −E₁₁)
+// taken to the grid points and the average taken over them; in the two
+// subphases, Σ_k (Γ₊+Γ₋)|û_k|²; and in the substrate friction, ξ⟨|u|²⟩.
+// The grid-point average is the rule the operator is built on, so for a
+// velocity in the solution space the sum equals ⟨u, Au⟩ (see VarSolver) to
+// round-off, and in a converged solve it equals the power ⟨f·u⟩ up to
+// ⟨u, Pf − Au⟩, at most the residual times ‖u‖‖Pf‖. It uses the solver's
+// transform scratch (not the warm-start velocity), allocates nothing, does
+// not modify the velocity, and panics if a length does not match the grid.
+func (s *VarSolver) DissipationParts(ux, uy []complex128) (membrane, subphase, friction float64) {
+	s.checkSpec(ux, uy, ux, uy, "DissipationParts")
+	g := s.g
+	StrainRate(g, s.sxx, s.sxy, ux, uy)
+	s.plan.InverseOverwrite(s.exx, s.sxx)
+	s.plan.InverseOverwrite(s.exy, s.sxy)
+	var sum float64
+	for i, te := range s.twoEta {
+		a, b := s.exx[i], s.exy[i]
+		sum += te * (a*a + 2*b*b)
+	}
+	g.Dy(s.sxx, uy)
+	s.plan.InverseOverwrite(s.exx, s.sxx)
+	for i, te := range s.twoEta {
+		a := s.exx[i]
+		sum += te * a * a
+	}
+	membrane = sum / float64(len(s.twoEta))
+	subphase = weightedSum(g, s.gamma, ux) + weightedSum(g, s.gamma, uy)
+	friction = s.m.Friction * (g.MeanSquare(ux) + g.MeanSquare(uy))
+	return membrane, subphase, friction
 }
 
 // pcg solves A x = b from the current x. It returns the true relative
