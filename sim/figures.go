@@ -29,7 +29,9 @@ func (j *job) figures() error {
 			X:     outputs.Axis{Label: "x", Unit: "µm"}, Y: outputs.Axis{Label: "y", Unit: "µm"},
 		}
 	}
-	j.model.UpdateViews()
+	if err := j.model.UpdateViews(); err != nil {
+		return fmt.Errorf("figures: %w", err)
+	}
 	view := map[string][]float64{}
 	for _, v := range j.model.Views() {
 		view[v.Name] = v.Data

@@ -14,6 +14,7 @@ import (
 
 	"github.com/memix-sim/memix/config"
 	"github.com/memix-sim/memix/fields"
+	"github.com/memix-sim/memix/flow"
 	"github.com/memix-sim/memix/mixing"
 	"github.com/memix-sim/memix/outputs"
 	"github.com/memix-sim/memix/spectral"
@@ -191,6 +192,9 @@ type job struct {
 	iQ11   int // index of Q11 among the views, −1 without inclusions
 
 	lastRow, lastSnap int // steps of the last series row and snapshot (−1 none)
+	// Work of the iterative flow solve (composition-dependent viscosity):
+	// since the last series row, and over this invocation.
+	flowRow, flowRun flowWork
 	diffHow           [2]string
 	started           time.Time
 }
@@ -299,6 +303,15 @@ func runParams(c config.Config, red *config.Reduced) (fields.Params, [2]string, 
 			Model: fields.CahnHilliard, Mobility: u.ToReduced(lp.Diffusion), Interface: eps,
 			Energy: 3 * gamma / (2 * math.Sqrt2 * eps), Backreaction: lp.Backreaction,
 		}
+	}
+	if c.Membrane.Variable() {
+		rule, err := flow.ParseViscosityRule(c.Membrane.Rule)
+		if err != nil {
+			return p, how, err
+		}
+		plus, minus := c.Membrane.PhaseViscosities()
+		p.Viscosity = flow.ViscosityLaw{Rule: rule, PhaseA: u.ToReduced(plus), PhaseB: u.ToReduced(minus)}
+		p.Solver = flow.PCGOptions{Tolerance: c.Membrane.Tolerance, MaxIterations: c.Membrane.MaxIter}
 	}
 	p.Stepping = fields.DefaultStepping(u.ToReduced(c.DtMax()))
 	p.Stepping.DtMin = u.ToReduced(c.DtMin())
@@ -463,6 +476,9 @@ func (j *job) seriesColumns() []outputs.Column {
 		{Name: "active_power", Unit: "eta_m/tau0^2"}, {Name: "interface_power", Unit: "eta_m/tau0^2"},
 		{Name: "dissipation", Unit: "eta_m/tau0^2"},
 	}
+	if j.params.VariableViscosity() {
+		cols = append(cols, outputs.Column{Name: "flow_iterations", Unit: "1"}, outputs.Column{Name: "flow_residual", Unit: "1"})
+	}
 	if j.params.Inclusions.Model != fields.NoInclusions {
 		cols = append(cols, outputs.Column{Name: "order", Unit: "1"}, outputs.Column{Name: "global_order", Unit: "1"})
 	}
@@ -482,10 +498,23 @@ func (j *job) writeRow() error {
 	if j.model.Steps() == j.lastRow {
 		return nil
 	}
-	d := j.model.Diagnostics()
+	d, err := j.model.Diagnostics()
+	if err != nil {
+		return err
+	}
 	r := j.row[:0]
 	r = append(r, float64(d.Steps), d.Time, d.Time*float64(j.red.Units.Time), j.last.Dt,
 		d.KineticEnergy, d.MaxSpeed, d.ActivePower, d.InterfacePower, d.Dissipation)
+	if j.params.VariableViscosity() {
+		// Mean iterations per solve and largest residual over the steps
+		// since the previous row (at the first row: the diagnostics' solve).
+		w := j.flowRow
+		if w.solves == 0 {
+			w = flowWork{solves: 1, iterations: d.FlowIterations, maxResidual: d.FlowResidual}
+		}
+		r = append(r, w.mean(), w.maxResidual)
+		j.flowRow = flowWork{}
+	}
 	if j.params.Inclusions.Model != fields.NoInclusions {
 		r = append(r, d.Order, d.GlobalOrder)
 	}
@@ -508,7 +537,9 @@ func (j *job) writeSnapshot() error {
 	if j.snaps == nil || j.model.Steps() == j.lastSnap {
 		return nil
 	}
-	j.model.UpdateViews()
+	if err := j.model.UpdateViews(); err != nil {
+		return err
+	}
 	views := j.model.Views()
 	if j.fields == nil {
 		j.fields = make([]outputs.Field, len(views))
@@ -539,6 +570,13 @@ func (j *job) writeCheckpoint() error {
 	for f, name := range names {
 		ck.Spectral = append(ck.Spectral, outputs.SpectralField{Name: name, Unit: j.model.FieldUnit(f), Data: j.model.Spectral(f)})
 	}
+	if ux, uy, ok := j.model.FlowGuess(); ok {
+		// The warm start of the iterative flow solve: without it a resumed
+		// run would depart from an uninterrupted one at the solver tolerance.
+		ck.Spectral = append(ck.Spectral,
+			outputs.SpectralField{Name: "flow_guess_ux", Unit: fields.UnitVelocity, Data: ux},
+			outputs.SpectralField{Name: "flow_guess_uy", Unit: fields.UnitVelocity, Data: uy})
+	}
 	return outputs.WriteCheckpoint(filepath.Join(j.dir, CheckpointFile), j.red.Grid, ck)
 }
 
@@ -553,11 +591,36 @@ func (j *job) readCheckpoint() (int64, error) {
 	for f, name := range names {
 		j.model.SetSpectral(f, ck.SpectralByName(name).Data)
 	}
+	// The warm start of the iterative flow solve, present once a step of a
+	// variable-viscosity run has been taken.
+	if gx, gy := ck.SpectralByName("flow_guess_ux"), ck.SpectralByName("flow_guess_uy"); gx != nil && gy != nil && j.params.VariableViscosity() {
+		j.model.SetFlowGuess(gx.Data, gy.Data)
+	}
 	j.model.SetClock(ck.Time, int(ck.Step))
 	j.stepper.SetLevel(int(ck.ScalarByName("level").Value))
 	j.ffts = int64(ck.ScalarByName("ffts").Value)
 	j.last.Dt = ck.Dt
 	return ck.Step, nil
+}
+
+// flowWork accumulates the iterative flow solver's work.
+type flowWork struct {
+	solves, iterations, maxIterations int
+	maxResidual                       float64
+}
+
+func (w *flowWork) add(info fields.StepInfo) {
+	w.solves += info.FlowSolves
+	w.iterations += info.FlowIterations
+	w.maxIterations = max(w.maxIterations, info.FlowMaxIterations)
+	w.maxResidual = math.Max(w.maxResidual, info.FlowResidual)
+}
+
+func (w flowWork) mean() float64 {
+	if w.solves == 0 {
+		return 0
+	}
+	return float64(w.iterations) / float64(w.solves)
 }
 
 // system adapts the model and stepper to the run loop.
@@ -570,6 +633,8 @@ func (s system) Step() error {
 	}
 	s.j.last = info
 	s.j.ffts += int64(info.FFTs)
+	s.j.flowRow.add(info)
+	s.j.flowRun.add(info)
 	return nil
 }
 func (s system) Time() float64 { return s.j.model.Time() }

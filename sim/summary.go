@@ -39,6 +39,9 @@ type Summary struct {
 	SaffmanDelbruckM *float64 `json:"saffman_delbruck_length_m"` // η_m/(η₊+η₋)
 
 	Inclusions *InclusionSummary `json:"inclusions,omitempty"`
+	// FlowSolver is the work of the iterative flow solve of this invocation
+	// (composition-dependent viscosity only).
+	FlowSolver *FlowSolverSummary `json:"flow_solver,omitempty"`
 	Prediction *Prediction       `json:"prediction,omitempty"`
 
 	// Final holds the last row of series.csv (column name → value, in the
@@ -60,6 +63,17 @@ type InclusionSummary struct {
 	RotDiffusionHow   string  `json:"rot_diffusion_how"`
 	TransDiffusionM2S float64 `json:"trans_diffusion_m2_per_s"`
 	TransDiffusionHow string  `json:"trans_diffusion_how"`
+}
+
+// FlowSolverSummary is the work of the preconditioned conjugate-gradient
+// flow solve.
+type FlowSolverSummary struct {
+	Solves            int     `json:"solves"`
+	MeanIterations    float64 `json:"mean_iterations"`
+	MaxIterations     int     `json:"max_iterations"`
+	MaxResidual       float64 `json:"max_relative_residual"`
+	Tolerance         float64 `json:"tolerance"`
+	ViscosityContrast float64 `json:"viscosity_contrast"` // η₊/η₋ or its inverse, ≥ 1
 }
 
 // Prediction is the linear stability of the uniform isotropic state for the
@@ -137,6 +151,11 @@ func (j *job) summarise(res Result, runErr error) *Summary {
 			TransDiffusionM2S: in.TransDiffusion * float64(u.Length*u.Length) / float64(u.Time),
 			TransDiffusionHow: j.diffHow[1],
 		}
+	}
+	if j.params.VariableViscosity() {
+		w := j.flowRun
+		s.FlowSolver = &FlowSolverSummary{Solves: w.solves, MeanIterations: w.mean(), MaxIterations: w.maxIterations,
+			MaxResidual: w.maxResidual, Tolerance: j.params.Solver.Tolerance, ViscosityContrast: j.params.Viscosity.Contrast()}
 	}
 	if p, ok := j.prediction(); ok {
 		s.Prediction = p
@@ -223,6 +242,9 @@ func (j *job) prediction() (*Prediction, bool) {
 	kMax := math.Min(kxm, kym) / l0
 	kMin := 2 * math.Pi / math.Max(float64(lx), float64(ly)) / 100
 	p := &Prediction{Method: "closed form s_act(k) (MODEL.md §2.3)"}
+	if j.params.VariableViscosity() {
+		p.Method += ", evaluated at the uniform viscosity membrane.viscosity (the composition-dependent viscosity is not in the linear theory)"
+	}
 	peak, err := stability.Fastest(act.Rate, kMin, kMax*10)
 	if err != nil {
 		return nil, false
