@@ -16,12 +16,15 @@
 //   - Velocity-gradient kernels on spectral fields: [Gradients],
 //     [Vorticity], [StrainRate] (ω = ∂x u_y − ∂y u_x, E₁₁ = ∂x u_x,
 //     E₁₂ = (∂y u_x + ∂x u_y)/2, E₂₂ = −E₁₁ for incompressible flow).
+//
 //   - The power balance ⟨f·u⟩ = ⟨2η_m E:E⟩ + Σ_k Γ|û_k|² + ξ⟨|u|²⟩:
 //     [PowerBudget].
+//
 //   - The point-force response of the infinite membrane, G∥(r) and G⊥(r),
 //     by numerical Hankel transform of P/D for any configured membrane:
 //     [Membrane.Response], [Membrane.SmoothedResponse],
 //     [Membrane.ResponseTable], [LogSpaced], [Membrane.CrossoverLength].
+//
 //   - Flow maps of a smoothed point force or force dipole in the periodic
 //     box: [FlowMap].
 //
@@ -31,6 +34,7 @@
 //     rigid-disk problem with the membrane's own D(k) by a Galerkin method
 //     (mobility_galerkin.go); every estimate carries its method, source,
 //     validity and error.
+//
 //   - Composition-dependent membrane viscosity: [ViscosityLaw] (constant,
 //     log-linear, linear in the composition φ ∈ [−1, 1]) and [VarSolver],
 //     preconditioned conjugate gradients on divergence-free fields with the

@@ -195,8 +195,8 @@ type job struct {
 	// Work of the iterative flow solve (composition-dependent viscosity):
 	// since the last series row, and over this invocation.
 	flowRow, flowRun flowWork
-	diffHow           [2]string
-	started           time.Time
+	diffHow          [2]string
+	started          time.Time
 }
 
 func newJob(c config.Config, dir string, o JobOptions) (*job, error) {

@@ -42,7 +42,7 @@ type Summary struct {
 	// FlowSolver is the work of the iterative flow solve of this invocation
 	// (composition-dependent viscosity only).
 	FlowSolver *FlowSolverSummary `json:"flow_solver,omitempty"`
-	Prediction *Prediction       `json:"prediction,omitempty"`
+	Prediction *Prediction        `json:"prediction,omitempty"`
 
 	// Final holds the last row of series.csv (column name → value, in the
 	// column's reduced unit).
