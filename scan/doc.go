@@ -70,6 +70,10 @@
 //	gather/results.csv, results.json   the table of Gather (see [HeadlineResults])
 //	gather/figures/*.png               mixnorm.png and RESULT-vs-AXIS.png
 //
+// memix runs in the scan folder, locally as in a Slurm task (whose
+// --chdir it is): a relative file path in a configuration (initial.file)
+// is relative to the scan folder, so give such paths absolute.
+//
 // All files are written to a temporary name and renamed. Two scans in
 // different folders share nothing. Two runners of one scan (a second
 // RunLocal, or a local run beside a Slurm job) share the work safely: each
