@@ -24,6 +24,13 @@ test: setup
 	$(GO) test -timeout 60m ./...
 	$(GO) test -timeout 20m -tags nofftw ./spectral/... ./fields/...
 
+# The Slurm integration test alone, verbosely: as root it installs slurm-wlm
+# and munge if missing, starts a one-node cluster on 127.0.0.1 under /tmp,
+# submits a scan of four short real runs, gathers them and stops every
+# daemon. `make test` runs it too (go test ./... as root).
+test-slurm: setup
+	$(GO) test -count=1 -v -timeout 10m -run '^TestSlurmCluster$$' ./scan/
+
 bench: setup
 	$(GO) test -run '^$$' -bench . -benchtime 2s ./...
 

@@ -3,12 +3,16 @@
 // local worker pool or as a Slurm job array, reports their state, and
 // gathers their summaries into one table with comparison figures.
 //
-// Every point is one "memix run" (see [Runner]); the scan relies only on
-// the run contract: exit 0 with OUTDIR/summary.json status "finished";
-// on SIGTERM or SIGINT a checkpoint (OUTDIR/checkpoint.h5), status
-// "interrupted" and exit 3, continued by "memix run --resume OUTDIR"; any
-// other exit status is a failure. The scan holds no physics and converts
-// no units beyond spacing ranges (see [Converter]).
+// Every point is one "memix run" (see [Runner]; the memix command runs
+// itself); the scan relies only on the run contract: exit 0 with
+// OUTDIR/summary.json status "finished"; on SIGTERM or SIGINT a checkpoint
+// (OUTDIR/checkpoint.h5), status "interrupted" and exit 3, continued by
+// "memix run --resume OUTDIR"; any other exit status is a failure. The scan
+// holds no physics. It reads units only to space ranges, with the config
+// package's unit parser ([ConfigConverter]), and validates every point
+// before anything runs with the config package's validator
+// ([ValidateConfig], passed to [Expand]). Gather reads summary.json and
+// series.csv as docs/outputs.md describes them.
 //
 // # Sweep file
 //
@@ -17,13 +21,13 @@
 //	base: ../configs/membrane.yaml   # relative to the sweep file; or an inline mapping
 //	mode: product                    # how the keys under axes combine: product (default) or zip
 //	axes:                            # configuration key (dotted path) -> values
-//	  subphase.lower.kind: [deep, wall]                  # a list: any YAML values
+//	  subphase.lower.kind: [slip, wall]                  # a list: any YAML values
 //	  subphase.lower.depth: {log: [50 nm, 50 um], n: 7}  # n values, logarithmically spaced
 //	  membrane.viscosity: {lin: [1 nPa*s*m, 5 nPa*s*m], n: 5}  # n values, evenly spaced
 //	zip:                             # optional groups of keys paired by position
-//	  - active.strength: [2 kT, 4 kT, 8 kT]
-//	    active.density: [100 um^-2, 200 um^-2, 400 um^-2]
-//	replicates: {n: 3, key: run.seed, first: 1}          # or {key: run.seed, seeds: [7, 19, 23]}
+//	  - inclusions.dipole: [2 kT, 4 kT, 8 kT]
+//	    inclusions.density: [400 um^-2, 200 um^-2, 100 um^-2]
+//	replicates: {n: 3, key: initial.seed, first: 1}      # or {key: initial.seed, seeds: [7, 19, 23]}
 //
 // The points are the full product of the factors in the order written:
 // each key under axes is one factor (with mode: zip all of them together
@@ -31,8 +35,10 @@
 // equally long), each group under zip is one factor, and the replicates are
 // the last factor. The first factor varies slowest. A range {lin|log:
 // [first, last], n: N} (N ≥ 2) gives values with the unit of first, written
-// back as "value unit" with six significant digits; last may use another
-// prefix of the same unit ("50 um" after "50 nm"). Replicates set the seed
+// back as "value unit" with six significant digits; last may use any unit
+// of the same dimension ("50 um" after "50 nm", "2 min" after "30 s"; kT
+// only after kT). A null value (~) leaves the key unset in that point, as
+// for the depth of a deep subphase zipped with the kinds. Replicates set the seed
 // key to n distinct whole numbers first, first+1, ... (default first: 1), or
 // to the listed seeds; the seed is a parameter like any other. Keys absent
 // from the base configuration are added; a key whose base value is not a
@@ -61,7 +67,12 @@
 //	slurm/array.sh            the last job-array script written
 //	slurm/job-JOBID.sh, slurm/jobs.json   submitted scripts, job ids and task → point maps
 //	slurm/logs/JOBID_TASK.out, .err       Slurm's own logs per array task
-//	gather/results.csv, results.json, figures/*.png
+//	gather/results.csv, results.json   the table of Gather (see [HeadlineResults])
+//	gather/figures/*.png               mixnorm.png and RESULT-vs-AXIS.png
+//
+// memix runs in the scan folder, locally as in a Slurm task (whose
+// --chdir it is): a relative file path in a configuration (initial.file)
+// is relative to the scan folder, so give such paths absolute.
 //
 // All files are written to a temporary name and renamed. Two scans in
 // different folders share nothing. Two runners of one scan (a second

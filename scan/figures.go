@@ -1,26 +1,20 @@
 package scan
 
-// The figures of Gather, drawn with gonum/plot directly. When the outputs
-// package has its plotting helpers, drawFigures can switch to them; the
-// data it plots is already in results.csv and the points' series.csv.
+// The comparison figures of Gather, drawn with the outputs package's line
+// plots (outputs.Lines), which also draw the figures of a single run.
 
 import (
-	"encoding/csv"
 	"errors"
 	"fmt"
-	"io"
 	"math"
 	"os"
 	"path/filepath"
 	"regexp"
+	"slices"
 	"sort"
-	"strconv"
 	"strings"
 
-	"gonum.org/v1/plot"
-	"gonum.org/v1/plot/plotter"
-	"gonum.org/v1/plot/plotutil"
-	"gonum.org/v1/plot/vg"
+	"github.com/memix-sim/memix/outputs"
 )
 
 // maxFigures bounds the figures one Gather draws.
@@ -29,94 +23,26 @@ const maxFigures = 200
 // maxLegend is the largest number of curves given a legend entry.
 const maxLegend = 16
 
-// A Series is a point's series.csv: a time column and diagnostics.
-//
-// What Gather expects of series.csv: a header row whose cells are
-// "name [unit]" (the unit part optional), then one row of numbers per
-// output time; lines starting with '#' are skipped and cells that are not
-// numbers read as NaN. The time column is the first whose name is "time"
-// or "t" or starts with "time" (case-insensitive). Mix-norm columns are
-// those whose name, lower-cased with everything but letters and digits
-// removed, contains "mixnorm" ("mix_norm", "mix-norm H^-1", "MixNorm").
-type Series struct {
-	// Names and Units of the columns, as in the header.
-	Names, Units []string
-	// Cols[j] holds column j.
-	Cols [][]float64
-	// Time is the index of the time column, -1 when there is none.
-	Time int
-	// MixNorms are the indices of the mix-norm columns.
-	MixNorms []int
-}
+// maxCurves bounds the curves of one overlay figure.
+const maxCurves = 100
 
-var headerCell = regexp.MustCompile(`^\s*(.*?)\s*(?:\[(.*)\])?\s*$`)
+// The series.csv columns of the overlay figures (docs/outputs.md).
+const (
+	seriesTime    = "time_si" // model time in s
+	seriesMixNorm = "mixnorm" // multiscale mix-norm, dimensionless
+)
 
-// ReadSeries reads a series CSV file (see [Series] for the expected form).
-func ReadSeries(path string) (*Series, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, err
-	}
-	defer f.Close()
-	r := csv.NewReader(f)
-	r.Comment = '#'
-	r.FieldsPerRecord = -1
-	head, err := r.Read()
-	if err != nil {
-		return nil, fmt.Errorf("%s: no header row: %w", path, err)
-	}
-	s := &Series{Time: -1, Cols: make([][]float64, len(head))}
-	for j, h := range head {
-		m := headerCell.FindStringSubmatch(h)
-		name, unit := strings.TrimSpace(h), ""
-		if m != nil {
-			name, unit = m[1], strings.TrimSpace(m[2])
-		}
-		s.Names = append(s.Names, name)
-		s.Units = append(s.Units, unit)
-		low := strings.ToLower(name)
-		if s.Time < 0 && (low == "time" || low == "t" || strings.HasPrefix(low, "time")) {
-			s.Time = j
-		}
-		if strings.Contains(alnum(low), "mixnorm") {
-			s.MixNorms = append(s.MixNorms, j)
-		}
-	}
-	for {
-		rec, err := r.Read()
-		if err == io.EOF {
-			break
-		}
-		if err != nil {
-			return nil, fmt.Errorf("%s: %w", path, err)
-		}
-		for j := range s.Cols {
-			v := math.NaN()
-			if j < len(rec) {
-				if x, err := strconv.ParseFloat(strings.TrimSpace(rec[j]), 64); err == nil {
-					v = x
-				}
-			}
-			s.Cols[j] = append(s.Cols[j], v)
-		}
-	}
-	return s, nil
-}
-
-func alnum(s string) string {
-	var b strings.Builder
-	for _, r := range s {
-		if r >= 'a' && r <= 'z' || r >= '0' && r <= '9' {
-			b.WriteRune(r)
-		}
-	}
-	return b.String()
-}
-
-var unsafeName = regexp.MustCompile(`[^A-Za-z0-9._-]+`)
+var unsafeName = regexp.MustCompile(`[^A-Za-z0-9._=-]+`)
 
 func fileName(parts ...string) string {
 	return unsafeName.ReplaceAllString(strings.Join(parts, "-"), "_") + ".png"
+}
+
+// A curveFigure is one figure to draw with outputs.Lines.
+type curveFigure struct {
+	name   string
+	curves []outputs.Curve
+	frame  outputs.Frame
 }
 
 // drawFigures writes the comparison figures into dir and returns their paths.
@@ -124,136 +50,123 @@ func drawFigures(sc *Scan, t *Table, conv Converter, dir string) ([]string, erro
 	if err := os.MkdirAll(dir, 0o755); err != nil {
 		return nil, err
 	}
+	figs := mixNormFigures(sc, t)
+	figs = append(figs, summaryFigures(t, conv)...)
 	var files []string
 	var errs []error
-	save := func(p *plot.Plot, name string) {
+	for _, f := range figs {
 		if len(files) >= maxFigures {
-			return
+			break
 		}
-		path := filepath.Join(dir, name)
-		if err := p.Save(16*vg.Centimeter, 11*vg.Centimeter, path); err != nil {
-			errs = append(errs, fmt.Errorf("figure %s: %w", name, err))
-			return
+		path := filepath.Join(dir, f.name)
+		if err := outputs.Lines(path, f.curves, f.frame); err != nil {
+			errs = append(errs, err)
+			continue
 		}
 		files = append(files, path)
-	}
-	for _, fig := range mixNormFigures(sc, t) {
-		save(fig.p, fig.name)
-	}
-	for _, fig := range summaryFigures(t, conv) {
-		save(fig.p, fig.name)
 	}
 	return files, errors.Join(errs...)
 }
 
-type figure struct {
-	name string
-	p    *plot.Plot
-}
-
-// mixNormFigures overlays the mix-norm curves of the finished points, one
-// figure per mix-norm column name.
-func mixNormFigures(sc *Scan, t *Table) []figure {
-	type curve struct {
-		label string
-		xy    plotter.XYs
-	}
-	byName := map[string][]curve{}
-	units := map[string][2]string{}
-	var order []string
-	var finished []Row
+// finishedRows returns the rows of finished points.
+func finishedRows(t *Table) []Row {
+	var rows []Row
 	for _, r := range t.Rows {
 		if r.State == Finished {
-			finished = append(finished, r)
+			rows = append(rows, r)
 		}
 	}
-	vary := varying(finished)
-	for _, r := range finished {
-		s, err := ReadSeries(filepath.Join(sc.OutDir(r.ID), seriesFile))
-		if err != nil || s.Time < 0 {
-			continue
-		}
-		for _, j := range s.MixNorms {
-			name := s.Names[j]
-			var xy plotter.XYs
-			for i, y := range s.Cols[j] {
-				x := s.Cols[s.Time][i]
-				if !math.IsNaN(x) && !math.IsNaN(y) && !math.IsInf(y, 0) {
-					xy = append(xy, plotter.XY{X: x, Y: y})
-				}
-			}
-			if len(xy) == 0 {
-				continue
-			}
-			if _, ok := byName[name]; !ok {
-				order = append(order, name)
-				units[name] = [2]string{s.Units[s.Time], s.Units[j]}
-			}
-			byName[name] = append(byName[name], curve{label(r.Params, vary), xy})
-		}
-	}
-	var figs []figure
-	for _, name := range order {
-		cs := byName[name]
-		p := plot.New()
-		p.Title.Text = name + " of each point (model predictions)"
-		p.X.Label.Text = withUnit("time", units[name][0])
-		p.Y.Label.Text = withUnit(name, units[name][1])
-		// Logarithmic when all values are positive and span a decade.
-		lo, hi := math.Inf(1), math.Inf(-1)
-		for _, c := range cs {
-			for _, q := range c.xy {
-				lo, hi = math.Min(lo, q.Y), math.Max(hi, q.Y)
-			}
-		}
-		if lo > 0 && hi >= 10*lo {
-			p.Y.Scale = plot.LogScale{}
-			p.Y.Tick.Marker = plot.LogTicks{Prec: -1}
-		}
-		for i, c := range cs {
-			l, err := plotter.NewLine(c.xy)
-			if err != nil {
-				continue
-			}
-			l.Color = plotutil.Color(i)
-			l.Dashes = plotutil.Dashes(i / len(plotutil.DefaultColors))
-			l.Width = vg.Points(1.2)
-			p.Add(l)
-			if len(cs) <= maxLegend {
-				p.Legend.Add(c.label, l)
-			}
-		}
-		p.Legend.Top = true
-		p.Legend.TextStyle.Font.Size = vg.Points(7)
-		figs = append(figs, figure{fileName(name), p})
-	}
-	return figs
+	return rows
 }
 
-func withUnit(name, unit string) string {
-	if unit == "" {
-		return name
+// mixNormFigures overlays the mix-norm curves of the finished points, each
+// divided by its initial value, against the model time in seconds; each
+// curve is labelled by the parameters that vary between the points.
+func mixNormFigures(sc *Scan, t *Table) []curveFigure {
+	rows := finishedRows(t)
+	vary := varying(rows)
+	var curves []outputs.Curve
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for _, r := range rows {
+		if len(curves) == maxCurves {
+			break
+		}
+		cols, data, err := outputs.ReadSeries(filepath.Join(sc.OutDir(r.ID), seriesFile))
+		if err != nil {
+			continue
+		}
+		ti, mi := -1, -1
+		for j, c := range cols {
+			switch c.Name {
+			case seriesTime:
+				ti = j
+			case seriesMixNorm:
+				mi = j
+			}
+		}
+		if ti < 0 || mi < 0 || len(data) == 0 {
+			continue
+		}
+		first := data[0][mi]
+		if first == 0 || math.IsNaN(first) || math.IsInf(first, 0) {
+			continue
+		}
+		c := outputs.Curve{Label: label(r.Params, vary)}
+		for _, row := range data {
+			y := row[mi] / first
+			c.X, c.Y = append(c.X, row[ti]), append(c.Y, y)
+			if !math.IsNaN(y) && !math.IsInf(y, 0) {
+				lo, hi = math.Min(lo, y), math.Max(hi, y)
+			}
+		}
+		curves = append(curves, c)
 	}
-	return name + " [" + unit + "]"
+	if len(curves) == 0 {
+		return nil
+	}
+	if len(curves) > maxLegend {
+		for i := range curves {
+			curves[i].Label = ""
+		}
+	}
+	title := "mix-norm of each point (model predictions)"
+	if n := len(rows); n > len(curves) {
+		title = fmt.Sprintf("mix-norm of the first %d of %d points (model predictions)", len(curves), n)
+	}
+	return []curveFigure{{
+		name:   fileName(seriesMixNorm),
+		curves: curves,
+		frame: outputs.Frame{
+			Title: title,
+			X:     outputs.Axis{Label: "time", Unit: "s"},
+			// Logarithmic when every value is positive and they span a decade.
+			Y: outputs.Axis{Label: "mix-norm / initial mix-norm", Log: lo > 0 && hi >= 10*lo},
+		},
+	}}
 }
 
 // axisPositions puts an axis on a numeric scale: numbers as they are,
 // quantities converted to the unit of the axis (or of its first value).
-// ok is false when a value is neither: the axis is then categorical.
+// A point without a value on the axis (a null, say the depth of a deep
+// subphase in a zipped sweep) gets NaN. ok is false when a value is
+// neither: the axis is then categorical.
 func axisPositions(a AxisInfo, rows []Row, conv Converter) (xs []float64, unit string, ok bool) {
 	unit = a.Unit
-	for i, r := range rows {
+	unitSet := unit != ""
+	for _, r := range rows {
 		v, _ := (&Point{Params: r.Params}).Param(a.Key)
 		switch v := v.(type) {
+		case nil:
+			xs = append(xs, math.NaN())
 		case float64:
 			xs = append(xs, v)
 		case string:
-			if i == 0 && unit == "" {
+			if !unitSet {
 				_, u, err := splitQuantity(v)
 				if err != nil {
 					return nil, "", false
 				}
-				unit = u
+				unit, unitSet = u, true
 			}
 			x, err := conv(v, unit)
 			if err != nil {
@@ -267,138 +180,189 @@ func axisPositions(a AxisInfo, rows []Row, conv Converter) (xs []float64, unit s
 	return xs, unit, true
 }
 
-// summaryFigures draws each summary number against each axis that takes
-// at least two values. Points that differ in the other axes form separate
-// series; replicates (seeds) are drawn as separate markers with a line
-// through their mean.
-func summaryFigures(t *Table, conv Converter) []figure {
-	var rows []Row
-	for _, r := range t.Rows {
-		if r.State == Finished {
-			rows = append(rows, r)
+// categories numbers the distinct values of a categorical axis 1, 2, ...
+// in order of appearance; a point without a value gets NaN.
+func categories(a AxisInfo, rows []Row) (xs []float64, names []string) {
+	seen := map[string]int{}
+	for _, r := range rows {
+		v, _ := (&Point{Params: r.Params}).Param(a.Key)
+		if v == nil {
+			xs = append(xs, math.NaN())
+			continue
 		}
+		s := Param{Value: v}.Text()
+		if _, ok := seen[s]; !ok {
+			names = append(names, s)
+			seen[s] = len(names)
+		}
+		xs = append(xs, float64(seen[s]))
 	}
+	return xs, names
+}
+
+// summaryFigures draws each figure key of the table against each axis that
+// takes at least two values among the finished points. Points that differ
+// in the other axes form separate curves, except in axes that determine
+// this one (the partner of a zipped axis): a curve joins the means over
+// replicates (and over such partners), and the single values are drawn as
+// points beside it. Points without a value on the axis are drawn as a
+// horizontal line across it, labelled "(no KEY)".
+func summaryFigures(t *Table, conv Converter) []curveFigure {
+	rows := finishedRows(t)
 	if len(rows) == 0 {
 		return nil
 	}
 	vary := varying(rows)
-	var figs []figure
+	var figs []curveFigure
 	for _, a := range t.Axes {
-		if a.Seed {
+		if a.Seed || !vary[a.Key] {
 			continue
 		}
 		xs, unit, numeric := axisPositions(a, rows, conv)
-		var cats []string
+		xAxis := outputs.Axis{Label: a.Key, Unit: unit, Log: a.Log}
 		if !numeric {
-			seen := map[string]int{}
-			xs = make([]float64, len(rows))
-			for i, r := range rows {
-				v, _ := (&Point{Params: r.Params}).Param(a.Key)
-				s := Param{Value: v}.Text()
-				if _, ok := seen[s]; !ok {
-					seen[s] = len(cats)
-					cats = append(cats, s)
-				}
-				xs[i] = float64(seen[s])
+			var names []string
+			xs, names = categories(a, rows)
+			parts := make([]string, len(names))
+			for i, n := range names {
+				parts[i] = fmt.Sprintf("%d = %s", i+1, n)
 			}
+			xAxis = outputs.Axis{Label: a.Key + " (" + strings.Join(parts, ", ") + ")", Min: 0, Max: float64(len(names)) + 1}
 		}
-		distinct := map[float64]bool{}
+		lo, hi := math.Inf(1), math.Inf(-1)
 		for _, x := range xs {
-			distinct[x] = true
-		}
-		if len(distinct) < 2 {
-			continue
-		}
-		logX := numeric && a.Log
-		if numeric && !logX {
-			lo, hi := math.Inf(1), math.Inf(-1)
-			for _, x := range xs {
+			if !math.IsNaN(x) {
 				lo, hi = math.Min(lo, x), math.Max(hi, x)
 			}
-			logX = lo > 0 && hi/lo >= 100
 		}
-		// Group by the other (non-seed) axes.
+		if !(lo < hi) {
+			continue // fewer than two positions
+		}
+		if numeric && !a.Log {
+			xAxis.Log = lo > 0 && hi/lo >= 100
+		}
+		// Group by the other varied axes, leaving out those that
+		// determine this one.
 		others := map[string]bool{}
 		for _, b := range t.Axes {
-			if b.Key != a.Key && !b.Seed && vary[b.Key] {
+			if b.Key != a.Key && !b.Seed && vary[b.Key] && !determines(rows, b.Key, a.Key) {
 				others[b.Key] = true
 			}
 		}
 		groupOf := make([]string, len(rows))
 		var groups []string
-		gi := map[string]bool{}
 		for i, r := range rows {
 			g := label(r.Params, others)
 			groupOf[i] = g
-			if !gi[g] {
-				gi[g] = true
+			if !slices.Contains(groups, g) {
 				groups = append(groups, g)
 			}
 		}
-		for _, k := range t.ResultKeys {
-			if constant(rows, k) {
+		for _, k := range t.figureKeys() {
+			if constant(rows, k.Key) {
 				continue
 			}
-			p := plot.New()
-			p.Title.Text = k + " against " + shortKey(a.Key) + " (model predictions)"
-			p.X.Label.Text = withUnit(a.Key, unit)
-			p.Y.Label.Text = k
-			if logX {
-				p.X.Scale = plot.LogScale{}
-				p.X.Tick.Marker = plot.LogTicks{Prec: -1}
+			var curves []outputs.Curve
+			for _, g := range groups {
+				curves = append(curves, groupCurves(rows, xs, groupOf, g, k.Key, lo, hi, shortKey(a.Key))...)
 			}
-			drawn := false
-			for g, name := range groups {
-				var pts plotter.XYs
-				sums := map[float64][2]float64{}
-				for i, r := range rows {
-					y, ok := r.Results[k]
-					if groupOf[i] != name || !ok {
-						continue
-					}
-					pts = append(pts, plotter.XY{X: xs[i], Y: y})
-					s := sums[xs[i]]
-					sums[xs[i]] = [2]float64{s[0] + y, s[1] + 1}
-				}
-				if len(pts) == 0 {
-					continue
-				}
-				drawn = true
-				var mean plotter.XYs
-				for x, s := range sums {
-					mean = append(mean, plotter.XY{X: x, Y: s[0] / s[1]})
-				}
-				sort.Slice(mean, func(i, j int) bool { return mean[i].X < mean[j].X })
-				sc, err := plotter.NewScatter(pts)
-				if err != nil {
-					continue
-				}
-				sc.Color = plotutil.Color(g)
-				sc.Shape = plotutil.Shape(g)
-				p.Add(sc)
-				if len(mean) > 1 {
-					if l, err := plotter.NewLine(mean); err == nil {
-						l.Color = plotutil.Color(g)
-						p.Add(l)
-					}
-				}
-				if name != "" && len(groups) <= maxLegend {
-					p.Legend.Add(name, sc)
-				}
-			}
-			if !drawn {
+			if len(curves) == 0 {
 				continue
 			}
-			if cats != nil {
-				p.NominalX(cats...)
-				p.X.Label.Text = a.Key
+			if len(curves) > maxLegend {
+				for i := range curves {
+					curves[i].Label = ""
+				}
 			}
-			p.Legend.Top = true
-			p.Legend.TextStyle.Font.Size = vg.Points(7)
-			figs = append(figs, figure{fileName(k, "vs", a.Key), p})
+			figs = append(figs, curveFigure{
+				name:   fileName(k.Key, "vs", a.Key),
+				curves: curves,
+				frame: outputs.Frame{
+					Title: k.Title + " against " + shortKey(a.Key) + " (model predictions)",
+					X:     xAxis,
+					Y:     outputs.Axis{Label: k.Title, Unit: k.Unit},
+				},
+			})
 		}
 	}
 	return figs
+}
+
+// groupCurves returns the curves of one group in a summary figure: the
+// mean at each position (a line with points), the single values when a
+// position has several (points), and for the group's points without a
+// position a horizontal line over [lo, hi].
+func groupCurves(rows []Row, xs []float64, groupOf []string, g, key string, lo, hi float64, axis string) []outputs.Curve {
+	type acc struct{ sum, n float64 }
+	sums := map[float64]*acc{}
+	var single outputs.Curve
+	var none acc
+	for i, r := range rows {
+		y, ok := r.Results[key]
+		if groupOf[i] != g || !ok {
+			continue
+		}
+		if math.IsNaN(xs[i]) {
+			none.sum, none.n = none.sum+y, none.n+1
+			continue
+		}
+		if sums[xs[i]] == nil {
+			sums[xs[i]] = &acc{}
+		}
+		sums[xs[i]].sum += y
+		sums[xs[i]].n++
+		single.X, single.Y = append(single.X, xs[i]), append(single.Y, y)
+	}
+	var out []outputs.Curve
+	if len(sums) > 0 {
+		mean := outputs.Curve{Label: g, Style: outputs.StyleLinePoints}
+		var pos []float64
+		several := false
+		for x, s := range sums {
+			pos = append(pos, x)
+			several = several || s.n > 1
+		}
+		sort.Float64s(pos)
+		for _, x := range pos {
+			mean.X, mean.Y = append(mean.X, x), append(mean.Y, sums[x].sum/sums[x].n)
+		}
+		if several {
+			mean.Label = withLabel(g, "mean")
+			single.Label, single.Style = withLabel(g, "each point"), outputs.StylePoints
+			out = append(out, mean, single)
+		} else {
+			out = append(out, mean)
+		}
+	}
+	if none.n > 0 {
+		m := none.sum / none.n
+		out = append(out, outputs.Curve{Label: withLabel(g, "no "+axis), X: []float64{lo, hi}, Y: []float64{m, m}})
+	}
+	return out
+}
+
+func withLabel(g, s string) string {
+	if g == "" {
+		return s
+	}
+	return g + " (" + s + ")"
+}
+
+// determines reports whether the value of axis b fixes the value of axis a
+// over rows (as when a and b are zipped).
+func determines(rows []Row, b, a string) bool {
+	m := map[string]string{}
+	for _, r := range rows {
+		p := &Point{Params: r.Params}
+		vb, _ := p.Param(b)
+		va, _ := p.Param(a)
+		kb, ka := Param{Value: vb}.Text(), Param{Value: va}.Text()
+		if old, ok := m[kb]; ok && old != ka {
+			return false
+		}
+		m[kb] = ka
+	}
+	return true
 }
 
 // constant reports whether result k takes at most one value over rows.
@@ -434,13 +398,31 @@ func varying(rows []Row) map[string]bool {
 	return out
 }
 
-// label is "k=v, k=v" over the given keys, in parameter order.
+// label is "k=v, k=v" over the given keys, in parameter order; keys
+// without a value (null) are left out.
 func label(params []Param, keys map[string]bool) string {
 	var parts []string
 	for _, p := range params {
-		if keys[p.Key] {
+		if keys[p.Key] && p.Value != nil {
 			parts = append(parts, shortKey(p.Key)+"="+p.Text())
 		}
 	}
 	return strings.Join(parts, ", ")
+}
+
+// unitOfKey guesses the unit of a summary number from its name's suffix
+// (the naming rule of summary.json: _s, _per_s, _m).
+func unitOfKey(k string) string {
+	last := k[strings.LastIndexByte(k, '.')+1:]
+	switch {
+	case strings.HasSuffix(last, "_per_s"):
+		return "1/s"
+	case strings.HasSuffix(last, "_s"):
+		return "s"
+	case strings.HasSuffix(last, "_m"):
+		return "m"
+	case strings.HasPrefix(k, "domain_length_m."):
+		return "m"
+	}
+	return ""
 }

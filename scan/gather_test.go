@@ -6,35 +6,11 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"math"
-	"os"
 	"path/filepath"
 	"reflect"
 	"strings"
 	"testing"
 )
-
-func TestReadSeries(t *testing.T) {
-	path := filepath.Join(t.TempDir(), "series.csv")
-	text := "# written by a test\nstep,t [s],Mix-Norm H^-1 [1], mixnorm_half [m^0.5] ,variance\n" +
-		"0,0,1,2,3\n1,0.5,nan,,4\n"
-	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
-		t.Fatal(err)
-	}
-	s, err := ReadSeries(path)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if s.Time != 1 || !reflect.DeepEqual(s.MixNorms, []int{2, 3}) {
-		t.Errorf("time column %d, mix-norm columns %v; want 1 and [2 3]", s.Time, s.MixNorms)
-	}
-	if !reflect.DeepEqual(s.Names, []string{"step", "t", "Mix-Norm H^-1", "mixnorm_half", "variance"}) ||
-		!reflect.DeepEqual(s.Units, []string{"", "s", "1", "m^0.5", ""}) {
-		t.Errorf("names %q units %q", s.Names, s.Units)
-	}
-	if s.Cols[1][1] != 0.5 || !math.IsNaN(s.Cols[2][1]) || !math.IsNaN(s.Cols[3][1]) || s.Cols[4][1] != 4 {
-		t.Errorf("second row %v %v %v %v", s.Cols[1][1], s.Cols[2][1], s.Cols[3][1], s.Cols[4][1])
-	}
-}
 
 // TestGather runs a small scan with replicates and a failing point and
 // checks the table, its files and the figures.
@@ -58,7 +34,10 @@ replicates: {n: 2, key: run.seed}
 	if err != nil {
 		t.Fatal(err)
 	}
-	wantKeys := []string{"domain_length_m", "mix_norm.final", "mix_norm.fit_rate_per_s", "resumed_from", "steps", "threads", "wall_time_s"}
+	// The headline results that the fake's summary has, in headline order;
+	// its null threshold time is absent.
+	wantKeys := []string{"mixing.mixnorm.ratio", "mixing.mixnorm.decay_rate_per_s", "mixing.mixnorm.final",
+		"prediction.growth_rate_per_s", "wall_time_s", "steps"}
 	if !reflect.DeepEqual(tab.ResultKeys, wantKeys) {
 		t.Errorf("result keys %q, want %q", tab.ResultKeys, wantKeys)
 	}
@@ -75,8 +54,8 @@ replicates: {n: 2, key: run.seed}
 		// The row holds its own point's results: the fake's final
 		// mix-norm is exp(−rate·0.1 s·steps) for its rate.
 		want := math.Exp(-rate.(float64) * 0.1 * 5)
-		if r.State != Finished || math.Abs(r.Results["mix_norm.final"]-want) > 1e-15 {
-			t.Errorf("row %d (rate %v): %s, mix_norm.final = %v, want %v", r.Index, rate, r.State, r.Results["mix_norm.final"], want)
+		if r.State != Finished || math.Abs(r.Results["mixing.mixnorm.final"]-want) > 1e-15 {
+			t.Errorf("row %d (rate %v): %s, mixing.mixnorm.final = %v, want %v", r.Index, rate, r.State, r.Results["mixing.mixnorm.final"], want)
 		}
 	}
 	if nFinished != 12 {
@@ -108,7 +87,8 @@ replicates: {n: 2, key: run.seed}
 	if err := json.Unmarshal([]byte(readFile(t, filepath.Join(sc.Dir, "gather", "results.json"))), &doc); err != nil {
 		t.Fatal(err)
 	}
-	if len(doc.Points) != 18 || doc.Points[2].Params["subphase.lower.depth"] != "500 nm" || doc.Points[2].Results["steps"] != 5 {
+	if len(doc.Points) != 18 || doc.Points[2].Params["subphase.lower.depth"] != "500 nm" || doc.Points[2].Results["steps"] != 5 ||
+		len(doc.Points[2].Results) != len(wantKeys) {
 		t.Errorf("JSON point 2: %+v", doc.Points[2])
 	}
 	if len(doc.Axes) != 4 || !doc.Axes[2].Log || doc.Axes[2].Unit != "nm" || !doc.Axes[3].Seed {
@@ -127,8 +107,9 @@ replicates: {n: 2, key: run.seed}
 			}
 		}
 	}
-	for _, want := range []string{"results.csv", "results.json", "mix_norm.png",
-		"mix_norm.final-vs-fake.rate.png", "mix_norm.final-vs-subphase.lower.depth.png", "wall_time_s-vs-fake.rate.png"} {
+	for _, want := range []string{"results.csv", "results.json", "mixnorm.png",
+		"mixing.mixnorm.ratio-vs-fake.rate.png", "mixing.mixnorm.ratio-vs-subphase.lower.depth.png",
+		"prediction.growth_rate_per_s-vs-fake.rate.png", "wall_time_s-vs-fake.rate.png"} {
 		found := false
 		for _, n := range names {
 			found = found || n == want
@@ -138,10 +119,21 @@ replicates: {n: 2, key: run.seed}
 		}
 	}
 	// No figure against the seed or against fake.fail (one value among
-	// the finished points), and none of a constant result (threads).
+	// the finished points), and none of a result not marked for figures.
 	for _, n := range names {
-		if strings.Contains(n, "run.seed") || strings.Contains(n, "fake.fail") || strings.HasPrefix(n, "threads") {
+		if strings.Contains(n, "run.seed") || strings.Contains(n, "fake.fail") || strings.HasPrefix(n, "steps") {
 			t.Errorf("unexpected figure %s", n)
 		}
+	}
+
+	// With AllNumbers every number of the summaries is a column, the
+	// headline first.
+	tab, _, err = Gather(context.Background(), sc.Dir, GatherOptions{Squeue: "/nonexistent/squeue", NoFigures: true, AllNumbers: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	wantAll := append(append([]string(nil), wantKeys...), "mixing.mixnorm.initial", "resumed_from", "threads")
+	if !reflect.DeepEqual(tab.ResultKeys, wantAll) {
+		t.Errorf("all result keys %q, want %q", tab.ResultKeys, wantAll)
 	}
 }

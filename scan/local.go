@@ -264,6 +264,7 @@ func runPoint(ctx context.Context, sc *Scan, p Point, opt LocalOptions, pr *prog
 	fmt.Fprintf(stdout, "# memix scan: %s %s\n", time.Now().UTC().Format(time.RFC3339), strings.Join(args, " "))
 
 	cmd := exec.CommandContext(ctx, args[0], args[1:]...)
+	cmd.Dir = sc.Dir // as the array script's --chdir: relative paths mean the same here and there
 	cmd.Env = append(os.Environ(), opt.Runner.Env...)
 	cmd.Stdout, cmd.Stderr = stdout, stderr
 	// Its own process group: a terminal's Ctrl-C reaches memix only

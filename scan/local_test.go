@@ -5,13 +5,18 @@ import (
 	"context"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"os"
+	"os/exec"
 	"path/filepath"
+	"reflect"
 	"strconv"
 	"strings"
 	"sync"
 	"testing"
 	"time"
+
+	"github.com/memix-sim/memix/config"
 )
 
 // expandFake expands a sweep of fake runs into a new scan folder.
@@ -107,32 +112,60 @@ axes:
 	}
 }
 
-// TestRunLocalInterruptAndResume: cancelling the context stops the runs
-// with SIGTERM; they leave checkpoints; the next run resumes exactly those
-// and runs the rest, and nothing finished is run twice.
+// tinyBase is a small real configuration (an invented motor patch on a
+// coarse grid): about 0.3 s per run of 20 ms of model time.
+const tinyBase = `membrane: {viscosity: 1e-9 Pa*s*m}
+grid: {n: 16, box: 5 um, threads: 1}
+inclusions: {dipole: 10 kT, density: 50 um^-2, rot_diffusion: 20 /s}
+lipids: {model: passive}
+time: {end: 20 ms}
+output: {snapshots: 0, rows: 200, figures: false}
+initial: {lipids: stripes, stripes: 2, seed: 7}
+`
+
+// expandReal expands a sweep of real runs over base (written as base.yaml
+// beside the sweep), validated by the config package, into a new folder.
+func expandReal(t testing.TB, sweep, base string) *Scan {
+	t.Helper()
+	s := writeSweep(t, sweep, base)
+	sc, err := Expand(s, filepath.Join(t.TempDir(), "scan"), ExpandOptions{Validate: ValidateConfig})
+	if err != nil {
+		t.Fatal(err)
+	}
+	return sc
+}
+
+// seriesRows returns the data lines of a point's series.csv.
+func seriesRows(sc *Scan, id string) int {
+	b, err := os.ReadFile(filepath.Join(sc.OutDir(id), seriesFile))
+	if err != nil {
+		return 0
+	}
+	return bytes.Count(b, []byte("\n")) - 1
+}
+
+// TestRunLocalInterruptAndResume runs real points: cancelling the context
+// stops the two running ones with SIGTERM, and they leave checkpoints; the
+// next RunLocal resumes exactly those (memix run --resume) and runs the two
+// that never started. Nothing is lost or clobbered: the resumed point's
+// series.csv and final state are byte for byte those of the same
+// configuration run without interruption (memix resumes bit for bit), and
+// no output was moved aside.
 func TestRunLocalInterruptAndResume(t *testing.T) {
-	sc := expandFake(t, `
-base: {fake: {steps: 30, step_ms: 10}}
-axes:
-  fake.rate: [0.5, 1, 1.5, 2, 2.5]
-`)
+	sc := expandReal(t, `
+base: base.yaml
+zip:
+  - inclusions.dipole: [10 kT, 12 kT, 14 kT, 16 kT]
+    time.end: [2 s, 2 s, 20 ms, 20 ms]
+`, tinyBase)
 	ctx, cancel := context.WithCancel(context.Background())
-	opt := LocalOptions{Workers: 2, Runner: fakeRunner(t)}
-	// Cancel once two runs have taken a few steps (series.csv grows by a
-	// line per step).
+	opt := LocalOptions{Workers: 2, Threads: 1, Runner: realRunner(t)}
+	// Cancel once both long runs have written a few rows (10 ms of model
+	// time apart, about a hundredth of each run).
 	go func() {
 		defer cancel()
-		deadline := time.Now().Add(20 * time.Second)
-		for time.Now().Before(deadline) {
-			n := 0
-			for _, p := range sc.Points[:2] {
-				if b, err := os.ReadFile(filepath.Join(sc.OutDir(p.ID), seriesFile)); err == nil && bytes.Count(b, []byte("\n")) > 4 {
-					n++
-				}
-			}
-			if n == 2 {
-				return
-			}
+		deadline := time.Now().Add(60 * time.Second)
+		for time.Now().Before(deadline) && (seriesRows(sc, sc.Points[0].ID) < 4 || seriesRows(sc, sc.Points[1].ID) < 4) {
 			time.Sleep(5 * time.Millisecond)
 		}
 	}()
@@ -140,62 +173,97 @@ axes:
 	if !errors.Is(err, context.Canceled) {
 		t.Fatalf("RunLocal after cancel: err = %v, want context.Canceled", err)
 	}
-	if rep.Interrupted != 2 || rep.NotStarted != 3 || rep.Finished != 0 {
+	if rep.Interrupted != 2 || rep.NotStarted != 2 || rep.Finished != 0 {
 		t.Fatalf("report after cancel %+v", rep)
 	}
 	st, err := Status(context.Background(), sc.Dir, StatusOptions{Squeue: "/nonexistent/squeue"})
 	if err != nil {
 		t.Fatal(err)
 	}
-	if st.Counts[Interrupted] != 2 || st.Counts[Pending] != 3 {
+	if st.Counts[Interrupted] != 2 || st.Counts[Pending] != 2 {
 		t.Fatalf("status after cancel: %s", st)
 	}
-	steps := map[string]float64{}
+	stepsAt := map[string]float64{}
 	for _, p := range sc.Points[:2] {
 		m := summaryOf(t, sc, p.ID)
 		if m["status"] != "interrupted" {
 			t.Errorf("point %s: status %v", p.ID, m["status"])
 		}
-		steps[p.ID] = m["steps"].(float64)
+		if _, err := os.Stat(filepath.Join(sc.OutDir(p.ID), checkpointH5)); err != nil {
+			t.Errorf("point %s: no checkpoint after the interruption: %v", p.ID, err)
+		}
+		stepsAt[p.ID] = m["steps"].(float64)
 	}
 
+	// The reference: point 0's configuration run once without a break,
+	// beside the resumed scan.
+	ref := filepath.Join(t.TempDir(), "ref")
+	refDone := make(chan error, 1)
+	go func() {
+		out, err := exec.Command(memixBin, "run", filepath.Join(sc.PointDir(sc.Points[0].ID), pointConfig), "-o", ref, "--quiet", "--threads", "1").CombinedOutput()
+		if err != nil {
+			err = fmt.Errorf("%v\n%s", err, out)
+		}
+		refDone <- err
+	}()
 	rep, err = RunLocal(context.Background(), sc.Dir, opt)
 	if err != nil {
 		t.Fatal(err)
 	}
-	if rep.Finished != 5 || rep.Failed != 0 {
+	if rep.Finished != 4 || rep.Failed != 0 {
 		t.Fatalf("report after resume %+v", rep)
 	}
+	if err := <-refDone; err != nil {
+		t.Fatalf("reference run: %v", err)
+	}
 	for i, p := range sc.Points {
-		inv := invocations(t, sc, p.ID)
+		att := attempts(t, sc, p.ID)
 		m := summaryOf(t, sc, p.ID)
-		if m["status"] != "finished" || m["steps"] != 30.0 {
-			t.Errorf("point %d: summary %v", i, m)
+		if m["status"] != "finished" {
+			t.Errorf("point %d: status %v", i, m["status"])
 		}
-		if i < 2 {
-			if len(inv) != 2 || !strings.HasPrefix(inv[1], "run --resume ") {
-				t.Errorf("interrupted point %d invocations %q, want a fresh run then --resume", i, inv)
-			}
-			if m["resumed_from"] != steps[p.ID] {
-				t.Errorf("point %d resumed from step %v, its checkpoint was at %v", i, m["resumed_from"], steps[p.ID])
-			}
-		} else if len(inv) != 1 || strings.Contains(inv[0], "--resume") {
-			t.Errorf("point %d invocations %q, want one fresh run", i, inv)
+		if dirs, _ := filepath.Glob(filepath.Join(sc.PointDir(p.ID), attemptPrefix+"*")); len(dirs) != 0 {
+			t.Errorf("point %d: outputs moved aside: %v", i, dirs)
 		}
+		if i >= 2 {
+			if len(att) != 1 || strings.Contains(att[0], "--resume") {
+				t.Errorf("point %d attempts %q, want one fresh run", i, att)
+			}
+			continue
+		}
+		if len(att) != 2 || !strings.Contains(att[1], " run --resume "+sc.OutDir(p.ID)) {
+			t.Errorf("interrupted point %d attempts %q, want a fresh run then --resume", i, att)
+		}
+		if got, want := m["steps"].(float64)-m["steps_this_call"].(float64), stepsAt[p.ID]; got != want {
+			t.Errorf("point %d resumed at step %v, its checkpoint was at %v", i, got, want)
+		}
+	}
+	p0 := sc.Points[0].ID
+	if got, want := readFile(t, filepath.Join(sc.OutDir(p0), seriesFile)), readFile(t, filepath.Join(ref, seriesFile)); got != want {
+		t.Errorf("the resumed point's series.csv differs from the uninterrupted run's (%d and %d bytes)", len(got), len(want))
+	}
+	var refSum map[string]any
+	if err := json.Unmarshal([]byte(readFile(t, filepath.Join(ref, summaryFile))), &refSum); err != nil {
+		t.Fatal(err)
+	}
+	if got := summaryOf(t, sc, p0); !reflect.DeepEqual(got["final"], refSum["final"]) || !reflect.DeepEqual(got["mixing"], refSum["mixing"]) {
+		t.Errorf("resumed final state %v\nmixing %v\nuninterrupted %v\nmixing %v", got["final"], got["mixing"], refSum["final"], refSum["mixing"])
 	}
 	// A third run has nothing to do.
 	rep, err = RunLocal(context.Background(), sc.Dir, opt)
-	if err != nil || rep.AlreadyFinished != 5 || len(rep.Results) != 0 {
+	if err != nil || rep.AlreadyFinished != 4 || len(rep.Results) != 0 {
 		t.Errorf("third run: %+v, %v", rep, err)
 	}
 }
 
-// TestTwoScansConcurrently: two scans in different folders run at the same
-// time without touching each other's points.
+// TestTwoScansConcurrently: two scans of real runs in different folders, at
+// the same time, with the same point identifiers (the same parameters over
+// different bases), each write only their own points: every point ran once,
+// with its own scan's configuration, and the gathered results differ.
 func TestTwoScansConcurrently(t *testing.T) {
-	a := expandFake(t, "base: {fake: {steps: 3, step_ms: 2}}\naxes: {fake.rate: [1, 2, 3, 4]}\n")
-	b := expandFake(t, "base: {fake: {steps: 4, step_ms: 2}}\naxes: {fake.rate: [1, 2, 3, 4]}\n")
-	// The same parameters give the same identifiers in both scans.
+	const sweep = "base: base.yaml\naxes: {inclusions.dipole: [10 kT, 12 kT, 14 kT, 16 kT]}\n"
+	a := expandReal(t, sweep, tinyBase)
+	b := expandReal(t, sweep, strings.Replace(tinyBase, "n: 16", "n: 24", 1))
 	if a.Points[0].ID != b.Points[0].ID {
 		t.Fatalf("identifiers differ: %s, %s", a.Points[0].ID, b.Points[0].ID)
 	}
@@ -206,22 +274,46 @@ func TestTwoScansConcurrently(t *testing.T) {
 		wg.Add(1)
 		go func() {
 			defer wg.Done()
-			reps[i], errs[i] = RunLocal(context.Background(), sc.Dir, LocalOptions{Workers: 2, Runner: fakeRunner(t)})
+			reps[i], errs[i] = RunLocal(context.Background(), sc.Dir, LocalOptions{Workers: 2, Threads: 1, Runner: realRunner(t)})
 		}()
 	}
 	wg.Wait()
+	tabs := make([]*Table, 2)
 	for i, sc := range []*Scan{a, b} {
 		if errs[i] != nil || reps[i].Finished != 4 {
 			t.Fatalf("scan %d: %+v, %v", i, reps[i], errs[i])
 		}
 		for _, p := range sc.Points {
-			m := summaryOf(t, sc, p.ID)
-			if want := float64(3 + i); m["steps"] != want {
-				t.Errorf("scan %d point %s ran %v steps, want %v (its own config)", i, p.ID, m["steps"], want)
-			}
-			if n := len(invocations(t, sc, p.ID)); n != 1 {
+			if n := len(attempts(t, sc, p.ID)); n != 1 {
 				t.Errorf("scan %d point %s ran %d times", i, p.ID, n)
 			}
+			// The run's resolved configuration is its own scan's point.
+			c, err := config.Load(filepath.Join(sc.OutDir(p.ID), "config.resolved.yaml"))
+			if err != nil {
+				t.Fatal(err)
+			}
+			want, err := config.Load(filepath.Join(sc.PointDir(p.ID), pointConfig))
+			if err != nil {
+				t.Fatal(err)
+			}
+			nx, _ := c.Grid.Size()
+			gd, _ := c.Value("inclusions.dipole")
+			wd, _ := want.Value("inclusions.dipole")
+			if nx != 16+8*i || gd != wd {
+				t.Errorf("scan %d point %s ran with grid %d and dipole %s, want %d and %s", i, p.ID, nx, gd, 16+8*i, wd)
+			}
+		}
+		var err error
+		if tabs[i], _, err = Gather(context.Background(), sc.Dir, GatherOptions{NoFigures: true, Squeue: "/nonexistent/squeue"}); err != nil {
+			t.Fatal(err)
+		}
+	}
+	for j := range a.Points {
+		ra, rb := tabs[0].Rows[j], tabs[1].Rows[j]
+		x, okx := ra.Results["mixing.mixnorm.ratio"]
+		y, oky := rb.Results["mixing.mixnorm.ratio"]
+		if ra.State != Finished || rb.State != Finished || !okx || !oky || x == y {
+			t.Errorf("point %s: gathered %s %v and %s %v; want two finished runs with different results", ra.ID, ra.State, x, rb.State, y)
 		}
 	}
 }
@@ -229,7 +321,7 @@ func TestTwoScansConcurrently(t *testing.T) {
 // TestTwoRunnersOneScan: two RunLocal calls on the same scan share the
 // points through the point locks; each point runs once.
 func TestTwoRunnersOneScan(t *testing.T) {
-	sc := expandFake(t, "base: {fake: {steps: 3, step_ms: 20}}\naxes: {fake.rate: [1, 2, 3, 4, 5, 6]}\n")
+	sc := expandReal(t, "base: base.yaml\naxes: {inclusions.dipole: [10 kT, 11 kT, 12 kT, 13 kT, 14 kT, 15 kT]}\n", tinyBase)
 	var wg sync.WaitGroup
 	reps := make([]LocalReport, 2)
 	for i := range reps {
@@ -237,7 +329,7 @@ func TestTwoRunnersOneScan(t *testing.T) {
 		go func() {
 			defer wg.Done()
 			var err error
-			reps[i], err = RunLocal(context.Background(), sc.Dir, LocalOptions{Workers: 2, Runner: fakeRunner(t)})
+			reps[i], err = RunLocal(context.Background(), sc.Dir, LocalOptions{Workers: 2, Threads: 1, Runner: realRunner(t)})
 			if err != nil {
 				t.Error(err)
 			}
@@ -248,7 +340,7 @@ func TestTwoRunnersOneScan(t *testing.T) {
 		t.Errorf("finished runs %d + %d, want 6 in total (reports %+v)", reps[0].Finished, reps[1].Finished, reps)
 	}
 	for _, p := range sc.Points {
-		if n := len(invocations(t, sc, p.ID)); n != 1 {
+		if n := len(attempts(t, sc, p.ID)); n != 1 {
 			t.Errorf("point %s ran %d times, want once", p.ID, n)
 		}
 		if m := summaryOf(t, sc, p.ID); m["status"] != "finished" {

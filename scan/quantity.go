@@ -4,68 +4,72 @@ import (
 	"fmt"
 	"strconv"
 	"strings"
+
+	"github.com/memix-sim/memix/config"
 )
 
 // A Converter expresses the written quantity q (a number followed by a unit,
 // such as "50 um") as a number in the given unit (such as "nm", giving 50000).
-// It returns an error when q is not a quantity or its unit cannot be
-// expressed in unit. The memix command passes one built on the config
-// package's unit parser; [LocalConverter] is the fallback.
+// The empty unit stands for SI base units, as a bare number does in a
+// configuration file ("5 nm" in "" is 5e-9). It returns an error when q is not a quantity or its
+// unit cannot be expressed in unit. [ConfigConverter] is the default.
 type Converter func(q, unit string) (float64, error)
 
-// siPrefixes are the decimal prefixes that [LocalConverter] understands.
-// Both "u" and the micro signs stand for 10⁻⁶; "da" is left out on purpose.
-var siPrefixes = map[string]float64{
-	"a": 1e-18, "f": 1e-15, "p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "μ": 1e-6,
-	"m": 1e-3, "c": 1e-2, "d": 1e-1, "h": 1e2, "k": 1e3, "M": 1e6, "G": 1e9,
-	"T": 1e12, "P": 1e15,
+// ConfigConverter is the [Converter] of memix configuration files: it reads
+// both q and unit with the config package's unit parser, so a range may
+// mix any units of one dimension ("50 nm" to "50 um", "30 s" to "2 min",
+// "0.89 mPa*s" to "0.1 P"). kT (k_B times the configured
+// temperature) converts only to kT: the temperature of a point is not known
+// when the range is expanded, so "40 kT" cannot be expressed in J, nor
+// "1e-20 J" in kT.
+func ConfigConverter(q, unit string) (float64, error) {
+	u := "1"
+	if unit != "" {
+		u = "1 " + unit
+	}
+	a, errA := config.ParseQuantity(q)
+	b, errB := config.ParseQuantity(u)
+	if errA != nil || errB != nil {
+		// kT is the one unit the zero parser lacks; the ratio of two
+		// values in kT does not depend on its size, so any size will do.
+		withKT := config.Parser{KT: 1}
+		a1, errA1 := withKT.Parse(q)
+		b1, errB1 := withKT.Parse(u)
+		switch {
+		case errA1 != nil:
+			return 0, errA
+		case errB1 != nil:
+			return 0, fmt.Errorf("unit %q: %w", unit, errB)
+		case (errA == nil) != (errB == nil):
+			return 0, fmt.Errorf("cannot express %q in %q: kT depends on the temperature of the point; write both ends of the range in kT or neither", q, unit)
+		}
+		a, b = a1, b1
+	}
+	if unit == "" {
+		return a.Value, nil // SI, like a bare number in a configuration
+	}
+	if a.Dim != b.Dim {
+		return 0, fmt.Errorf("%w: %q is %s, %s is %s", config.ErrDimension, q, dimText(a.Dim), unit, dimText(b.Dim))
+	}
+	return a.Value / b.Value, nil
 }
 
-// LocalConverter is a [Converter] that knows only decimal prefixes: it
-// converts between units that are the same after removing at most one
-// prefix from the front of each ("50 um" to "nm", "0.89 mPa*s" to "Pa*s").
-// A prefix inside a compound unit ("1/ms") or units of the same dimension
-// with different names ("min" and "s") are errors: write both ends of a
-// range in one unit, or pass the config package's converter.
-func LocalConverter(q, unit string) (float64, error) {
-	v, u, err := splitQuantity(q)
-	if err != nil {
-		return 0, err
+func dimText(d config.Dim) string {
+	if d.Unit() == "" {
+		return "a bare number"
 	}
-	if u == unit {
-		return v, nil
-	}
-	f, ok := prefixRatio(u, unit)
-	if !ok {
-		return 0, fmt.Errorf("cannot express %q in %q: units differ by more than a decimal prefix", q, unit)
-	}
-	return v * f, nil
+	return "in " + d.Unit()
 }
 
-// prefixRatio returns f such that 1 from = f to, when from and to share a
-// base unit after stripping at most one prefix from each.
-func prefixRatio(from, to string) (float64, bool) {
-	type cand struct {
-		base  string
-		scale float64
-	}
-	split := func(u string) []cand {
-		cs := []cand{{u, 1}}
-		for p, s := range siPrefixes {
-			if len(u) > len(p) && strings.HasPrefix(u, p) {
-				cs = append(cs, cand{u[len(p):], s})
-			}
-		}
-		return cs
-	}
-	for _, a := range split(from) {
-		for _, b := range split(to) {
-			if a.base == b.base {
-				return a.scale / b.scale, true
-			}
-		}
-	}
-	return 0, false
+// ValidateConfig checks a point's resolved configuration with the config
+// package's validator, exactly as "memix run" will: every problem at once,
+// each a *config.FieldError naming key, value, unit and valid range (or a
+// *config.FileError when the text is not YAML). The MEMIX_* environment
+// overrides apply, as they do to the runs. It is the validator that the
+// memix command passes to [Expand].
+func ValidateConfig(pointYAML []byte) error {
+	_, err := config.Parse(pointYAML, "point configuration")
+	return err
 }
 
 // splitQuantity splits "50 nm" (or "50nm", or "50") into its number and its

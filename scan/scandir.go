@@ -10,6 +10,8 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+
+	"github.com/memix-sim/memix/config"
 )
 
 // Files and folders of a scan directory (see the package documentation).
@@ -87,21 +89,8 @@ func Expand(s *Sweep, scanDir string, opt ExpandOptions) (*Scan, error) {
 		return nil, err
 	}
 	if opt.Validate != nil {
-		var errs []error
-		bad := 0
-		for i := range pts {
-			if err := opt.Validate(pts[i].Config); err != nil {
-				bad++
-				if bad <= 20 {
-					errs = append(errs, fmt.Errorf("point %s (%s): %w", pts[i].ID, pts[i].Label(), err))
-				}
-			}
-		}
-		if bad > 0 {
-			if bad > 20 {
-				errs = append(errs, fmt.Errorf("... and %d more invalid points", bad-20))
-			}
-			return nil, fmt.Errorf("scan: %d of %d points are invalid; nothing was written:\n%w", bad, len(pts), errors.Join(errs...))
+		if err := validatePoints(pts, opt.Validate); err != nil {
+			return nil, err
 		}
 	}
 	dir, err := filepath.Abs(scanDir)
@@ -147,6 +136,78 @@ func Expand(s *Sweep, scanDir string, opt ExpandOptions) (*Scan, error) {
 		return nil, err
 	}
 	return sc, nil
+}
+
+// maxProblems bounds the distinct problems that an invalid expansion lists.
+const maxProblems = 20
+
+// validatePoints validates every point and reports the problems, each
+// once: the points that share a problem (a misspelt key is wrong in all of
+// them) are counted under its first one. The validators' errors stay
+// wrapped, so a caller can find a *config.FieldError with errors.As.
+func validatePoints(pts []PointConfig, validate func([]byte) error) error {
+	type problem struct {
+		err    error
+		first  *PointConfig
+		others int
+	}
+	var probs []*problem
+	byText := map[string]*problem{}
+	bad := 0
+	for i := range pts {
+		err := validate(pts[i].Config)
+		if err == nil {
+			continue
+		}
+		bad++
+		// One problem per joined error, so that a point with two
+		// problems shares each with the other points separately.
+		parts := []error{err}
+		if j, ok := err.(interface{ Unwrap() []error }); ok {
+			parts = j.Unwrap()
+		}
+		for _, e := range parts {
+			k := problemKey(e)
+			if p := byText[k]; p != nil {
+				p.others++
+				continue
+			}
+			p := &problem{err: e, first: &pts[i]}
+			byText[k] = p
+			probs = append(probs, p)
+		}
+	}
+	if bad == 0 {
+		return nil
+	}
+	var errs []error
+	for i, p := range probs {
+		if i == maxProblems {
+			errs = append(errs, fmt.Errorf("... and %d more problems", len(probs)-maxProblems))
+			break
+		}
+		where := fmt.Sprintf("point %s (%s)", p.first.ID, p.first.Label())
+		switch p.others {
+		case 0:
+		case 1:
+			where += " and 1 other point"
+		default:
+			where += fmt.Sprintf(" and %d other points", p.others)
+		}
+		errs = append(errs, fmt.Errorf("%s: %w", where, p.err))
+	}
+	return fmt.Errorf("scan: %d of %d points are invalid; nothing was written:\n%w", bad, len(pts), errors.Join(errs...))
+}
+
+// problemKey groups the problems of several points: a configuration key's
+// problem by key and kind (a misspelt key is one problem whatever its
+// value), anything else by its text.
+func problemKey(err error) string {
+	var fe *config.FieldError
+	if errors.As(err, &fe) {
+		return fe.Key + "\x00" + fe.Err.Error()
+	}
+	return err.Error()
 }
 
 func (s *Scan) writeLists() error {

@@ -292,14 +292,22 @@ func sbatchValue(name, v string) error {
 	return nil
 }
 
-func slurmScript(sc *Scan, idx []int, opt SlurmOptions) ([]byte, error) {
-	cpus := opt.CPUsPerTask
-	if cpus < 1 {
-		cpus = 1
+// Validate checks the options as [WriteSlurmScript] uses them (time limit
+// syntax, warning time, values that #SBATCH lines can carry, the runner's
+// environment entries) and returns the first problem, naming the option.
+func (opt SlurmOptions) Validate() error {
+	_, err := opt.warning()
+	return err
+}
+
+// warning validates the options and returns the time-limit warning.
+func (opt SlurmOptions) warning() (time.Duration, error) {
+	if opt.CPUsPerTask < 0 || opt.MaxRunning < 0 {
+		return 0, fmt.Errorf("scan: Slurm CPUs per task %d and tasks at once %d: must not be negative", opt.CPUsPerTask, opt.MaxRunning)
 	}
 	limit, err := slurmDuration(opt.Time)
 	if err != nil {
-		return nil, err
+		return 0, err
 	}
 	warn := opt.Warning
 	if warn == 0 {
@@ -310,10 +318,39 @@ func slurmScript(sc *Scan, idx []int, opt SlurmOptions) ([]byte, error) {
 		}
 	}
 	if warn < time.Second {
-		return nil, fmt.Errorf("scan: Slurm warning time %s: must be at least 1 s", warn)
+		return 0, fmt.Errorf("scan: Slurm warning time %s: must be at least 1 s", warn)
 	}
 	if limit > 0 && warn >= limit {
-		return nil, fmt.Errorf("scan: Slurm warning time %s is not shorter than the time limit %s (%s)", warn, opt.Time, limit)
+		return 0, fmt.Errorf("scan: Slurm warning time %s is not shorter than the time limit %s (%s)", warn, opt.Time, limit)
+	}
+	opts := []struct{ k, v string }{{"job-name", opt.JobName}, {"partition", opt.Partition}, {"time", opt.Time}, {"mem", opt.Mem}}
+	for _, o := range opts {
+		if err := sbatchValue(o.k, o.v); o.v != "" && err != nil {
+			return 0, err
+		}
+	}
+	for _, e := range opt.Extra {
+		if !strings.HasPrefix(e, "-") || strings.ContainsAny(e, "\n\r") {
+			return 0, fmt.Errorf("scan: extra Slurm option %q: give one option such as --account=NAME", e)
+		}
+	}
+	for _, e := range opt.Runner.Env {
+		k, _, ok := strings.Cut(e, "=")
+		if !ok || !envName.MatchString(k) {
+			return 0, fmt.Errorf("scan: runner environment entry %q: want NAME=VALUE", e)
+		}
+	}
+	return warn, nil
+}
+
+func slurmScript(sc *Scan, idx []int, opt SlurmOptions) ([]byte, error) {
+	cpus := opt.CPUsPerTask
+	if cpus < 1 {
+		cpus = 1
+	}
+	warn, err := opt.warning()
+	if err != nil {
+		return nil, err
 	}
 	name := opt.JobName
 	if name == "" {
@@ -324,17 +361,6 @@ func slurmScript(sc *Scan, idx []int, opt SlurmOptions) ([]byte, error) {
 	}
 	var b strings.Builder
 	w := func(format string, a ...any) { fmt.Fprintf(&b, format, a...) }
-	opts := []struct{ k, v string }{{"job-name", name}, {"partition", opt.Partition}, {"time", opt.Time}, {"mem", opt.Mem}}
-	for _, o := range opts {
-		if err := sbatchValue(o.k, o.v); o.v != "" && err != nil {
-			return nil, err
-		}
-	}
-	for _, e := range opt.Extra {
-		if !strings.HasPrefix(e, "-") || strings.ContainsAny(e, "\n\r") {
-			return nil, fmt.Errorf("scan: extra Slurm option %q: give one option such as --account=NAME", e)
-		}
-	}
 	spec := arraySpec(idx)
 	if opt.MaxRunning > 0 {
 		spec += "%" + strconv.Itoa(opt.MaxRunning)
@@ -372,10 +398,7 @@ func slurmScript(sc *Scan, idx []int, opt SlurmOptions) ([]byte, error) {
 	}
 	w("memix=(%s)\n", strings.Join(cmd, " "))
 	for _, e := range opt.Runner.Env {
-		k, v, ok := strings.Cut(e, "=")
-		if !ok || !envName.MatchString(k) {
-			return nil, fmt.Errorf("scan: runner environment entry %q: want NAME=VALUE", e)
-		}
+		k, v, _ := strings.Cut(e, "=") // checked by warning
 		w("export %s=%s\n", k, shellQuote(v))
 	}
 	w("threads=${SLURM_CPUS_PER_TASK:-%d}\n", cpus)

@@ -1,7 +1,6 @@
 package scan
 
 import (
-	"bytes"
 	"context"
 	"errors"
 	"fmt"
@@ -19,16 +18,18 @@ import (
 
 // The Slurm integration test starts a real one-node Slurm cluster on
 // 127.0.0.1 with scripts/slurm/cluster.sh (installing slurm-wlm and munge
-// through scripts/setup.sh --slurm when they are missing), submits a scan
-// to it and gathers the results. It needs root and, when Slurm is missing,
-// apt-get; elsewhere it skips. The daemons are stopped by PID when the test
-// ends, pass or fail, and by the script's watchdog if the test process dies
+// through scripts/setup.sh --slurm when they are missing), submits a scan of
+// four short real memix runs to it (the memix that TestMain built) and
+// gathers the results. It needs root and, when Slurm is missing, apt-get;
+// elsewhere it skips. The daemons are stopped by PID when the test ends,
+// pass or fail, and by the script's watchdog if the test process dies
 // before its cleanups run.
 //
-// By default the runs are the fake memix of the other tests. To run a real
-// memix instead, set MEMIX_SLURM_RUNNER to its path and MEMIX_SLURM_SWEEP
-// to a sweep file of four short runs; the test then only submits, waits
-// and checks that all four finish.
+// The four points exercise what a cluster does to a scan: two short runs;
+// one that fails on its first submission (its initial composition file is
+// missing) and finishes on the resubmission, which covers it alone; and one
+// long enough to receive the time-limit warning, which stops memix for a
+// checkpoint, requeues the task and resumes the run.
 
 // slurmTestBudget bounds the whole test, install included (measured: about
 // 25 s with the packages installed, 10 s more to install them).
@@ -49,6 +50,7 @@ func TestSlurmCluster(t *testing.T) {
 			t.Skip("Slurm is not installed and there is no apt-get to install slurm-wlm and munge")
 		}
 	}
+	runner := realRunner(t)
 	t0 := time.Now()
 	ctx, cancel := context.WithTimeout(context.Background(), slurmTestBudget)
 	defer cancel()
@@ -56,36 +58,16 @@ func TestSlurmCluster(t *testing.T) {
 	dir := startCluster(t, ctx)
 	t.Logf("cluster up after %.1f s", time.Since(t0).Seconds())
 
-	runner := fakeRunner(t)
-	var sc *Scan
-	realRunner := os.Getenv("MEMIX_SLURM_RUNNER") != ""
-	if realRunner {
-		runner = Runner{Command: []string{os.Getenv("MEMIX_SLURM_RUNNER")}}
-		s, err := LoadSweep(os.Getenv("MEMIX_SLURM_SWEEP"), nil)
-		if err != nil {
-			t.Fatalf("MEMIX_SLURM_SWEEP: %v", err)
-		}
-		if sc, err = Expand(s, filepath.Join(dir, "scan"), ExpandOptions{}); err != nil {
-			t.Fatal(err)
-		}
-	} else {
-		// Four points: two short runs, one that fails on its first attempt
-		// only, and one long enough to be warned of its time limit.
-		sweep := fmt.Sprintf(`
-base: {fake: {steps: 3, step_ms: 10}}
+	phi := filepath.Join(dir, "phi.h5") // written before the second submission
+	sweep := fmt.Sprintf(`
+base: base.yaml
 zip:
-  - fake.rate: [1, 2, 3, 4]
-    fake.fail_once: ["", "", %q, ""]
-    fake.steps: [3, 3, 3, 250]
-`, filepath.Join(dir, "fail-once-marker"))
-		s, err := ParseSweep([]byte(sweep), dir, nil)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if sc, err = Expand(s, filepath.Join(dir, "scan"), ExpandOptions{}); err != nil {
-			t.Fatal(err)
-		}
-	}
+  - inclusions.dipole: [10 kT, 12 kT, 14 kT, 16 kT]
+    initial.lipids: [stripes, stripes, file, stripes]
+    initial.file: [~, ~, %q, ~]
+    time.end: [20 ms, 20 ms, 20 ms, 3 s]
+`, phi)
+	sc := expandReal(t, sweep, strings.Replace(tinyBase, "snapshots: 0", "snapshots: 1", 1))
 	if len(sc.Points) != 4 {
 		t.Fatalf("the sweep has %d points, want 4", len(sc.Points))
 	}
@@ -116,18 +98,13 @@ zip:
 	warned := false
 	long := sc.Points[3]
 	waitJob(t, ctx, rec.JobID, func(tasks map[int]string) {
-		if realRunner {
-			return
-		}
-		// Once the long point has taken a few steps, give it the
+		// Once the long point has written a few rows, give it the
 		// time-limit warning; its task stops it for a checkpoint and
 		// requeues itself. Slurm holds a requeued job back for about two
 		// minutes; release it now.
-		if !warned && tasks[3] == "R" {
-			if b, err := os.ReadFile(filepath.Join(sc.OutDir(long.ID), seriesFile)); err == nil && bytes.Count(b, []byte("\n")) > 5 {
-				slurmCmd(t, ctx, "scancel", "--batch", "--signal=USR1", rec.JobID+"_3")
-				warned = true
-			}
+		if !warned && tasks[3] == "R" && seriesRows(sc, long.ID) > 5 {
+			slurmCmd(t, ctx, "scancel", "--batch", "--signal=USR1", rec.JobID+"_3")
+			warned = true
 		}
 		if warned && strings.HasPrefix(tasks[3], "PD") {
 			_ = exec.CommandContext(ctx, "scontrol", "update", "JobId="+rec.JobID+"_3", "StartTime=now").Run()
@@ -139,48 +116,59 @@ zip:
 	if err != nil {
 		t.Fatal(err)
 	}
-	if !realRunner {
-		want := []State{Finished, Finished, Failed, Finished}
-		for i, ps := range st.Points {
-			if ps.State != want[i] {
-				t.Errorf("after the first job, point %d is %s (%s), want %s", i, ps.State, ps.Detail, want[i])
-			}
+	want := []State{Finished, Finished, Failed, Finished}
+	for i, ps := range st.Points {
+		if ps.State != want[i] {
+			t.Errorf("after the first job, point %d is %s (%s), want %s", i, ps.State, ps.Detail, want[i])
 		}
-		inv := invocations(t, sc, long.ID)
-		if !warned || len(inv) != 2 || !strings.HasPrefix(inv[1], "run --resume") {
-			t.Errorf("the long point was not interrupted and resumed: warned %v, invocations %q", warned, inv)
-		}
-		if m := summaryOf(t, sc, long.ID); m["steps"] != 250.0 || m["resumed_from"].(float64) < 5 {
-			t.Errorf("long point summary %v", m)
-		}
-		for _, task := range []int{0, 1, 2, 3} {
-			if _, err := os.Stat(filepath.Join(sc.Dir, slurmDir, "logs", fmt.Sprintf("%s_%d.err", rec.JobID, task))); err != nil {
-				t.Errorf("Slurm log of task %d: %v", task, err)
-			}
-		}
-
-		// Phase 2: resubmission runs only the failed point.
-		rec2, err := Submit(ctx, sc.Dir, opt)
-		if err != nil {
-			t.Fatal(err)
-		}
-		if len(rec2.Tasks) != 1 || rec2.Tasks[0].Task != 2 || !strings.Contains(readFile(t, filepath.Join(sc.Dir, rec2.Script)), "#SBATCH --array=2\n") {
-			t.Errorf("resubmission %+v, want only task 2", rec2)
-		}
-		waitJob(t, ctx, rec2.JobID, nil)
-		t.Logf("job %s left the queue after %.1f s", rec2.JobID, time.Since(t0).Seconds())
-		if _, err := Submit(ctx, sc.Dir, opt); !errors.Is(err, ErrNothingToSubmit) {
-			t.Errorf("third submission: %v, want ErrNothingToSubmit", err)
+	}
+	if d := st.Points[2].Detail; !strings.Contains(d, "exit status") {
+		t.Errorf("the failed point's detail %q does not give memix's exit status", d)
+	}
+	att := attempts(t, sc, long.ID)
+	if !warned || len(att) != 2 || !strings.Contains(att[1], " run --resume ") {
+		t.Errorf("the long point was not interrupted and resumed: warned %v, attempts %q", warned, att)
+	}
+	if m := summaryOf(t, sc, long.ID); m["status"] != "finished" || !(m["steps_this_call"].(float64) < m["steps"].(float64)) {
+		t.Errorf("long point summary: status %v, steps %v of which %v after the resume", m["status"], m["steps"], m["steps_this_call"])
+	}
+	for _, task := range []int{0, 1, 2, 3} {
+		if _, err := os.Stat(filepath.Join(sc.Dir, slurmDir, "logs", fmt.Sprintf("%s_%d.err", rec.JobID, task))); err != nil {
+			t.Errorf("Slurm log of task %d: %v", task, err)
 		}
 	}
 
+	// Phase 2: with the missing file in place (a snapshot of point 0,
+	// same grid), the resubmission runs only the failed point.
+	snap, err := os.ReadFile(filepath.Join(sc.OutDir(sc.Points[0].ID), "snapshots.d", "000001.h5"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(phi, snap, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	rec2, err := Submit(ctx, sc.Dir, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(rec2.Tasks) != 1 || rec2.Tasks[0].Task != 2 || !strings.Contains(readFile(t, filepath.Join(sc.Dir, rec2.Script)), "#SBATCH --array=2\n") {
+		t.Errorf("resubmission %+v, want only task 2", rec2)
+	}
+	waitJob(t, ctx, rec2.JobID, nil)
+	t.Logf("job %s left the queue after %.1f s", rec2.JobID, time.Since(t0).Seconds())
+	if _, err := Submit(ctx, sc.Dir, opt); !errors.Is(err, ErrNothingToSubmit) {
+		t.Errorf("third submission: %v, want ErrNothingToSubmit", err)
+	}
+
+	// Gather sees all four with their results.
 	tab, _, err := Gather(ctx, sc.Dir, GatherOptions{NoFigures: true})
 	if err != nil {
 		t.Fatal(err)
 	}
 	for _, r := range tab.Rows {
-		if r.State != Finished || r.Results["wall_time_s"] <= 0 {
-			t.Errorf("gathered point %d: %s, wall time %v, error %q", r.Index, r.State, r.Results["wall_time_s"], r.Error)
+		ratio, ok := r.Results["mixing.mixnorm.ratio"]
+		if r.State != Finished || r.Results["wall_time_s"] <= 0 || !ok || !(ratio > 0 && ratio < 1) {
+			t.Errorf("gathered point %d: %s, wall time %v, mix-norm ratio %v, error %q", r.Index, r.State, r.Results["wall_time_s"], ratio, r.Error)
 		}
 	}
 	t.Logf("done after %.1f s", time.Since(t0).Seconds())

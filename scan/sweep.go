@@ -113,11 +113,13 @@ func (p *Point) Param(key string) (any, bool) {
 }
 
 // Label is a short human-readable form of the parameters, "k=v, k=v",
-// using the last component of each dotted key.
+// using the last component of each dotted key; null values are left out.
 func (p *Point) Label() string {
-	parts := make([]string, len(p.Params))
-	for i, q := range p.Params {
-		parts[i] = shortKey(q.Key) + "=" + q.Text()
+	var parts []string
+	for _, q := range p.Params {
+		if q.Value != nil { // a null leaves the key unset: nothing to show
+			parts = append(parts, shortKey(q.Key)+"="+q.Text())
+		}
 	}
 	return strings.Join(parts, ", ")
 }
@@ -131,7 +133,7 @@ func shortKey(k string) string {
 
 // LoadSweep reads and parses the sweep file at path; a base configuration
 // named by a relative path is looked up beside it. conv is as for
-// [ParseSweep] (nil means [LocalConverter]).
+// [ParseSweep] (nil means [ConfigConverter]).
 func LoadSweep(path string, conv Converter) (*Sweep, error) {
 	text, err := os.ReadFile(path)
 	if err != nil {
@@ -150,11 +152,11 @@ func LoadSweep(path string, conv Converter) (*Sweep, error) {
 
 // ParseSweep parses a sweep file's text. dir is the folder that a relative
 // base path is resolved against; conv converts the ends of ranges with
-// units to a common unit (nil means [LocalConverter]). Every problem found
+// units to a common unit (nil means [ConfigConverter]). Every problem found
 // is reported, each naming its key.
 func ParseSweep(text []byte, dir string, conv Converter) (*Sweep, error) {
 	if conv == nil {
-		conv = LocalConverter
+		conv = ConfigConverter
 	}
 	var doc yaml.Node
 	if err := yaml.Unmarshal(text, &doc); err != nil {
@@ -378,8 +380,11 @@ func (s *Sweep) readRange(key string, v *yaml.Node, conv Converter) ([]*yaml.Nod
 	}
 	first, last := ends.Content[0].Value, ends.Content[1].Value
 	a, unit, err := splitQuantity(first)
+	if err == nil {
+		_, err = conv(first, unit) // is the unit known?
+	}
 	if err != nil {
-		return nil, fmt.Errorf("key %s: range start: %w", key, err)
+		return nil, fmt.Errorf("key %s: range start %q: %w", key, first, err)
 	}
 	b, err := conv(last, unit)
 	if err != nil {

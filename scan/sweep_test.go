@@ -36,7 +36,13 @@ func paramTexts(pts []PointConfig, key string) []string {
 	return out
 }
 
-func TestLocalConverter(t *testing.T) {
+// TestConfigConverter: range ends are read with the config package's unit
+// parser. Reference values are the unit definitions themselves (SI
+// prefixes are exact powers of ten; 1 min = 60 s; 1 P = 0.1 Pa·s, the CGS
+// unit, as the config package defines it), so the only error is the
+// round-off of one division and of the decimal scaling: a few ulps, checked
+// at 1e-14 relative.
+func TestConfigConverter(t *testing.T) {
 	cases := []struct {
 		q, unit string
 		want    float64
@@ -45,26 +51,39 @@ func TestLocalConverter(t *testing.T) {
 		{"50um", "nm", 50000},
 		{"0.89 mPa*s", "Pa*s", 0.00089},
 		{"2 Pa*s", "mPa*s", 2000},
-		{"3 m", "mm", 3000},
-		{"7 kT", "kT", 7},
+		{"1 P", "mPa*s", 100},
+		{"2 min", "s", 120},
+		{"20 /s", "/s", 20},
+		{"1 um^2/s", "um^2/s", 1},
+		{"2 um^2/s", "nm^2/s", 2e6},
+		{"200 um^-2", "um^-2", 200},
 		{"1e-9 Pa*s*m", "nPa*s*m", 1},
+		{"7 kT", "kT", 7},
+		{"5 nm", "", 5e-9}, // no unit: SI, as a bare number in a config
 		{"4", "", 4},
 	}
 	for _, c := range cases {
-		got, err := LocalConverter(c.q, c.unit)
+		got, err := ConfigConverter(c.q, c.unit)
 		if err != nil {
-			t.Errorf("LocalConverter(%q, %q): %v", c.q, c.unit, err)
+			t.Errorf("ConfigConverter(%q, %q): %v", c.q, c.unit, err)
 			continue
 		}
-		// Decimal prefixes are exact powers of ten; the product carries
-		// at most a few ulps of round-off.
-		if d := got - c.want; d > 1e-12*c.want || d < -1e-12*c.want {
-			t.Errorf("LocalConverter(%q, %q) = %g, want %g", c.q, c.unit, got, c.want)
+		if d := got - c.want; d > 1e-14*c.want || d < -1e-14*c.want {
+			t.Errorf("ConfigConverter(%q, %q) = %.17g, want %g", c.q, c.unit, got, c.want)
 		}
 	}
-	for _, bad := range [][2]string{{"1 min", "s"}, {"deep", "m"}, {"1 1/ms", "1/s"}} {
-		if _, err := LocalConverter(bad[0], bad[1]); err == nil {
-			t.Errorf("LocalConverter(%q, %q) succeeded; want an error", bad[0], bad[1])
+	for _, bad := range []struct{ q, unit, want string }{
+		{"1 min", "m", "wrong dimension"},
+		{"deep", "m", "cannot parse"},
+		{"3 furlong", "m", "unknown unit"},
+		{"3 m", "furlong", "unknown unit"},
+		{"1e-20 J", "kT", "kT depends on the temperature"},
+		{"40 kT", "J", "kT depends on the temperature"},
+		{"5", "nm", "wrong dimension"},
+	} {
+		_, err := ConfigConverter(bad.q, bad.unit)
+		if err == nil || !strings.Contains(err.Error(), bad.want) {
+			t.Errorf("ConfigConverter(%q, %q): error %v, want one containing %q", bad.q, bad.unit, err, bad.want)
 		}
 	}
 }

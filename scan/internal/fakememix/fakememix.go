@@ -6,10 +6,12 @@
 //	run --resume OUTDIR [--quiet] [--threads N]
 //
 // It writes OUTDIR/config.resolved.yaml, then takes fake.steps steps of
-// fake.step_ms milliseconds each, writing series.csv ("time [s]",
-// "mix_norm [1]" = exp(−fake.rate·t), "variance [1]") and, at the end,
-// summary.json with status "finished", wall_time_s, steps, threads and a
-// nested mix_norm object. On SIGTERM or SIGINT it finishes the step, writes
+// fake.step_ms milliseconds each, writing series.csv in memix's format
+// ("step [1]", "time [tau0]", "time_si [s]" = 0.1 s per step, "mixnorm [1]"
+// = exp(−fake.rate·time_si)) and, at the end, summary.json with status
+// "finished", wall_time_s, steps, threads, resumed_from and, shaped as
+// memix's, mixing.mixnorm (final, ratio, decay_rate_per_s = fake.rate) and
+// prediction.growth_rate_per_s (= 10·fake.rate). On SIGTERM or SIGINT it finishes the step, writes
 // checkpoint.h5 (a text file "step=K", not HDF5) and a summary with status
 // "interrupted", and exits with 3; --resume continues from the checkpoint.
 // fake.fail makes it fail (exit 1, message on stderr, summary "failed"),
@@ -171,8 +173,9 @@ func run(args []string, stdout io.Writer, sig <-chan os.Signal) (int, error) {
 		}
 	}
 	final := math.Exp(-p.rate * dt * float64(p.steps))
-	summary["mix_norm"] = map[string]any{"final": final, "fit_rate_per_s": p.rate}
-	summary["domain_length_m"] = 1e-6 / (1 + p.rate)
+	summary["mixing"] = map[string]any{"mixnorm": map[string]any{
+		"initial": 1.0, "final": final, "ratio": final, "decay_rate_per_s": p.rate, "threshold_time_s": nil}}
+	summary["prediction"] = map[string]any{"text": "fake", "growth_rate_per_s": 10 * p.rate}
 	writeSummary("finished")
 	fmt.Fprintf(stdout, "finished %d steps\n", p.steps)
 	return 0, nil
@@ -212,11 +215,10 @@ func readParams(text []byte) (params, error) {
 
 func writeSeries(out string, n int, dt, rate float64) error {
 	var b strings.Builder
-	b.WriteString("step,time [s],mix_norm [1],variance [1]\n")
+	b.WriteString("step [1],time [tau0],time_si [s],mixnorm [1]\n")
 	for k := 0; k <= n; k++ {
 		t := float64(k) * dt
-		m := math.Exp(-rate * t)
-		fmt.Fprintf(&b, "%d,%g,%g,%g\n", k, t, m, m*m)
+		fmt.Fprintf(&b, "%d,%g,%g,%g\n", k, 10*t, t, math.Exp(-rate*t))
 	}
 	tmp := filepath.Join(out, ".series.tmp")
 	if err := os.WriteFile(tmp, []byte(b.String()), 0o644); err != nil {
