@@ -74,7 +74,7 @@ type InitialSection struct {
 	ModeX        int              `key:"mode_x" default:"1" range:"[-65536,65536]" doc:"Mode number along x of the single Fourier mode (wavevector 2π·mode_x/lx)."`
 	ModeY        int              `key:"mode_y" default:"0" range:"[-65536,65536]" doc:"Mode number along y of the single Fourier mode."`
 	ModeAmp      float64          `key:"mode_amplitude" default:"0.01" range:"[0,10]" doc:"Amplitude of the single Fourier mode."`
-	File         Optional[string] `key:"file" fallback:"none" doc:"HDF5 file written by memix (a snapshot, the index snapshots.h5 or a checkpoint) to take the composition from (initial.lipids = file). Its grid must match."`
+	File         Optional[string] `key:"file" fallback:"none" doc:"HDF5 file written by memix (a snapshot, the index snapshots.h5 or a checkpoint) to take the composition from (initial.lipids = file); a relative path is relative to the working directory of memix run. Its grid must match."`
 	FileSnapshot int              `key:"file_snapshot" default:"-1" range:"[-1000000,1000000]" doc:"Snapshot of initial.file to use: 0 the first, −1 the last."`
 }
 
