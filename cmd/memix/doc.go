@@ -6,6 +6,9 @@
 // Usage:
 //
 //	memix check CONFIG [--json|--csv] [--resolved]
+//	memix mobility CONFIG [--radius 2nm] [--method auto|numerical|…] [--json|--csv]
+//	memix stability CONFIG [--compare OTHER.yaml …] [--subphases] [--figure PATH]
+//	                [--kmin K] [--kmax K] [--points N] [--json|--csv]
 //	memix version [--json|--csv]
 //	memix help [COMMAND]
 //
