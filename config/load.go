@@ -156,10 +156,19 @@ func envTypos() []error {
 // follows a new temperature. The error lists every problem of the new
 // configuration, as Load does.
 func (c Config) Set(key string, value any) (Config, error) {
+	return c.SetAll([][2]string{{key, fmt.Sprint(value)}})
+}
+
+// SetAll is Set for several keys at once: the values are applied together
+// and validated once, so keys that depend on each other (initial.lipids =
+// file with initial.file) can change together.
+func (c Config) SetAll(kv [][2]string) (Config, error) {
 	m := c.meta.clone()
-	key = strings.ToLower(strings.TrimSpace(key))
-	m.raw[key] = value
-	m.sources[key] = FromSet
+	for _, p := range kv {
+		key := strings.ToLower(strings.TrimSpace(p[0]))
+		m.raw[key] = p[1]
+		m.sources[key] = FromSet
+	}
 	return build(m, nil)
 }
 

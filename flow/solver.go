@@ -78,23 +78,30 @@ func (s *Solver) Solve(ux, uy, fx, fy []complex128) {
 	ux[0], uy[0] = fx[0]*complex(s.invD[0], 0), fy[0]*complex(s.invD[0], 0)
 	for j := 0; j < s.g.Ny; j++ {
 		row := j * nk
-		qy := ky[j]
-		for i := 0; i < nk; i++ {
-			idx := row + i
-			if idx == 0 {
-				continue
-			}
-			if i == nk-1 || j == s.g.Ny/2 {
-				ux[idx], uy[idx] = 0, 0
-				continue
-			}
-			qx := kx[i]
-			a, b := fx[idx], fy[idx]
-			// P f = f − k̂ (k̂·f), scaled by 1/(k² D).
-			inv := s.invD[idx] / k2[idx]
-			kdotf := complex(qx, 0)*a + complex(qy, 0)*b
-			ux[idx] = (a*complex(k2[idx], 0) - complex(qx, 0)*kdotf) * complex(inv, 0)
-			uy[idx] = (b*complex(k2[idx], 0) - complex(qy, 0)*kdotf) * complex(inv, 0)
+		if j == s.g.Ny/2 {
+			clear(ux[row : row+nk])
+			clear(uy[row : row+nk])
+			continue
 		}
+		qy := ky[j]
+		i0 := 0
+		if j == 0 {
+			i0 = 1 // k = 0 is done above
+		}
+		// Reslicing to the row lets the compiler drop bounds checks.
+		fxr, fyr, uxr, uyr := fx[row:row+nk], fy[row:row+nk], ux[row:row+nk], uy[row:row+nk]
+		invD, k2r := s.invD[row:row+nk], k2[row:row+nk]
+		for i := i0; i < nk-1; i++ {
+			qx := kx[i]
+			a, b := fxr[i], fyr[i]
+			// P f/D = (f − k̂ (k̂·f))/D = (k² f − k (k·f))/(k² D).
+			inv := invD[i] / k2r[i]
+			kk := k2r[i]
+			dr := qx*real(a) + qy*real(b)
+			di := qx*imag(a) + qy*imag(b)
+			uxr[i] = complex((kk*real(a)-qx*dr)*inv, (kk*imag(a)-qx*di)*inv)
+			uyr[i] = complex((kk*real(b)-qy*dr)*inv, (kk*imag(b)-qy*di)*inv)
+		}
+		uxr[nk-1], uyr[nk-1] = 0, 0
 	}
 }

@@ -110,7 +110,12 @@ func (m Membrane) Validate() error {
 	if !(m.Friction >= 0 && !math.IsInf(m.Friction, 0)) {
 		errs = append(errs, fmt.Errorf("membrane friction = %g: must be finite and ≥ 0", m.Friction))
 	}
-	errs = append(errs, m.Upper.Validate("upper"), m.Lower.Validate("lower"))
+	// Append only real errors, so that a valid membrane allocates nothing.
+	for _, e := range [...]error{m.Upper.Validate("upper"), m.Lower.Validate("lower")} {
+		if e != nil {
+			errs = append(errs, e)
+		}
+	}
 	return errors.Join(errs...)
 }
 

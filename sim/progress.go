@@ -21,12 +21,17 @@ type Progress interface {
 
 // NewProgress returns a progress bar with an ETA and the current step size
 // when w is a terminal, and plain log lines every interval otherwise (for
-// batch jobs whose output goes to a file).
-func NewProgress(w io.Writer, interval time.Duration) Progress {
-	if f, ok := w.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
-		return &barProgress{w: w}
+// batch jobs whose output goes to a file). Times are shown multiplied by
+// scale, with unit after them (e.g. the SI value of the reduced time unit
+// and "s"); scale 0 means 1.
+func NewProgress(w io.Writer, interval time.Duration, scale float64, unit string) Progress {
+	if scale == 0 {
+		scale = 1
 	}
-	return &lineProgress{w: w, every: interval, now: time.Now}
+	if f, ok := w.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
+		return &barProgress{w: w, scale: scale, unit: unit}
+	}
+	return &lineProgress{w: w, every: interval, now: time.Now, scale: scale, unit: unit}
 }
 
 // fraction returns how much of the run is done, in [0, 1], from whichever
@@ -49,9 +54,11 @@ func (s span) fraction(t float64, step int) float64 {
 
 // barProgress draws a terminal bar in permille of the run.
 type barProgress struct {
-	w   io.Writer
-	s   span
-	bar *progressbar.ProgressBar
+	w     io.Writer
+	s     span
+	bar   *progressbar.ProgressBar
+	scale float64
+	unit  string
 }
 
 func (p *barProgress) Start(t0, tEnd float64, step0, maxSteps int) {
@@ -67,7 +74,7 @@ func (p *barProgress) Start(t0, tEnd float64, step0, maxSteps int) {
 }
 
 func (p *barProgress) Update(t float64, step int, dt float64) {
-	p.bar.Describe(fmt.Sprintf("step %d  t %.4g  dt %.2g", step, t, dt))
+	p.bar.Describe(fmt.Sprintf("step %d  t %.4g %s  dt %.2g %s", step, t*p.scale, p.unit, dt*p.scale, p.unit))
 	_ = p.bar.Set(int(1000 * p.s.fraction(t, step)))
 }
 
@@ -81,6 +88,8 @@ type lineProgress struct {
 	w     io.Writer
 	every time.Duration
 	now   func() time.Time
+	scale float64
+	unit  string
 	s     span
 	start time.Time
 	last  time.Time
@@ -110,8 +119,8 @@ func (p *lineProgress) line() {
 	if f > 0 {
 		eta = (time.Duration(float64(el) * (1 - f) / f)).Round(time.Second).String()
 	}
-	fmt.Fprintf(p.w, "progress: step %d  t = %.6g  dt = %.3g  %5.1f%%  elapsed %s  eta %s\n",
-		p.step, p.t, p.dt, 100*f, el.Round(time.Second), eta)
+	fmt.Fprintf(p.w, "progress: step %d  t = %.6g %s  dt = %.3g %s  %5.1f%%  elapsed %s  eta %s\n",
+		p.step, p.t*p.scale, p.unit, p.dt*p.scale, p.unit, 100*f, el.Round(time.Second), eta)
 }
 
 func (p *lineProgress) Stop() { p.line() }

@@ -23,16 +23,19 @@ type System interface {
 
 // Event describes the moment an observer is called.
 type Event struct {
-	Step   int
-	Time   float64
-	Dt     float64
-	Final  bool // the last call of the run
-	Failed bool // the run stops because a step failed; the state is not trustworthy
+	Step        int
+	Time        float64
+	Dt          float64
+	Final       bool // the last call of the run
+	Failed      bool // the run stops because a step failed; the state is not trustworthy
+	Interrupted bool // the run stops because the context was cancelled
 }
 
 // Observer receives events on its schedule. An error stops the run (it is
 // returned by Run); a Final call's error is returned after the other
-// observers have been called.
+// observers have been called. The Final call may repeat the step of the
+// observer's last regular call: an observer that records rows should skip
+// a step it has already recorded.
 type Observer interface {
 	Observe(e Event) error
 }
@@ -43,21 +46,49 @@ type ObserverFunc func(e Event) error
 // Observe calls f(e).
 func (f ObserverFunc) Observe(e Event) error { return f(e) }
 
-// Schedule says when an observer fires: every EverySteps steps, and/or
-// whenever the time has advanced by EveryTime since its last call,
-// whichever comes first. Zero disables that criterion; both zero means
-// only at the start and at the end.
+// Schedule says when an observer fires: whenever the step count passes a
+// multiple of EverySteps, whenever the time passes a multiple of
+// EveryTime, and whenever EveryWall of wall-clock time has gone by since
+// its last call. The step and time criteria depend only on the clock, not
+// on the history of the run, so a run resumed from a checkpoint fires at
+// the same steps as an uninterrupted one. Zero disables a criterion.
 type Schedule struct {
 	EverySteps int
 	EveryTime  float64
+	EveryWall  time.Duration
 }
+
+// due reports whether the step from (step0, t0) to (step1, t1) crosses one
+// of s's marks; lastWall is updated when the wall-clock criterion fires.
+func (s Schedule) due(step0, step1 int, t0, t1 float64, lastWall *time.Time, now time.Time) bool {
+	fire := false
+	if s.EverySteps > 0 && step1/s.EverySteps > step0/s.EverySteps {
+		fire = true
+	}
+	if s.EveryTime > 0 && mark(t1, s.EveryTime) > mark(t0, s.EveryTime) {
+		fire = true
+	}
+	if s.EveryWall > 0 && now.Sub(*lastWall) >= s.EveryWall {
+		fire = true
+	}
+	if fire {
+		*lastWall = now
+	}
+	return fire
+}
+
+// mark returns the index of the last multiple of every at or before t,
+// counting a time within 1e-9 of a mark (relative to every) as on it, so
+// that sums of steps that should land on a mark do.
+func mark(t, every float64) float64 { return math.Floor(t/every + 1e-9) }
 
 // Scheduled pairs an observer with its schedule.
 type Scheduled struct {
 	Name     string
 	Observer Observer
 	Schedule Schedule
-	// AtStart calls the observer once before the first step.
+	// AtStart calls the observer once before the first step (not when
+	// Options.Resumed is set: the state was observed before).
 	AtStart bool
 }
 
@@ -75,6 +106,10 @@ type Options struct {
 
 	// Progress receives progress updates; nil disables them.
 	Progress Progress
+
+	// Resumed says the system continues from a checkpoint: AtStart
+	// observers are not called again.
+	Resumed bool
 }
 
 // Reason says why a run ended.
@@ -99,7 +134,7 @@ type Result struct {
 }
 
 // ErrInterrupted is returned when the context is cancelled.
-var ErrInterrupted = errors.New("sim: run interrupted")
+var ErrInterrupted = errors.New("run interrupted; checkpoint written")
 
 // StepError reports a failed step.
 type StepError struct {
@@ -123,26 +158,14 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 	}
 	start := time.Now()
 	res := Result{LastGood: -1, MinDt: math.Inf(1)}
-	type due struct {
-		lastStep int
-		lastTime float64
+	walls := make([]time.Time, len(opt.Observers))
+	for i := range walls {
+		walls[i] = start
 	}
-	dues := make([]due, len(opt.Observers))
-	ckDue := due{sys.Steps(), sys.Time()}
-	for i := range dues {
-		dues[i] = due{sys.Steps(), sys.Time()}
-	}
-	fire := func(s Schedule, d *due) bool {
-		step, t := sys.Steps(), sys.Time()
-		if (s.EverySteps > 0 && step-d.lastStep >= s.EverySteps) ||
-			(s.EveryTime > 0 && t-d.lastTime >= s.EveryTime*(1-1e-12)) {
-			d.lastStep, d.lastTime = step, t
-			return true
-		}
-		return false
-	}
+	ckWall := start
 	event := func(final, failed bool) Event {
-		return Event{Step: sys.Steps(), Time: sys.Time(), Dt: sys.Dt(), Final: final, Failed: failed}
+		return Event{Step: sys.Steps(), Time: sys.Time(), Dt: sys.Dt(), Final: final, Failed: failed,
+			Interrupted: final && res.Reason == Interrupted}
 	}
 	checkpoint := func() error {
 		if opt.Checkpoint == nil {
@@ -169,7 +192,7 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 			(opt.MaxSteps > 0 && sys.Steps() >= opt.MaxSteps)
 	}
 	for _, o := range opt.Observers {
-		if o.AtStart {
+		if o.AtStart && !opt.Resumed {
 			if err := o.Observer.Observe(event(false, false)); err != nil {
 				return res, fmt.Errorf("%s: %w", o.Name, err)
 			}
@@ -183,7 +206,7 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 			res.Reason = Interrupted
 			break
 		}
-		t0, dt0 := sys.Time(), sys.Dt()
+		t0, dt0, s0 := sys.Time(), sys.Dt(), sys.Steps()
 		if err := sys.Step(); err != nil {
 			res.Reason = Failed
 			res.Time, res.Wall = sys.Time(), time.Since(start)
@@ -199,8 +222,10 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 		res.Steps++
 		dt := sys.Dt()
 		res.MinDt, res.MaxDt = math.Min(res.MinDt, dt), math.Max(res.MaxDt, dt)
+		now := time.Now()
+		s1, t1 := sys.Steps(), sys.Time()
 		for i, o := range opt.Observers {
-			if fire(o.Schedule, &dues[i]) {
+			if o.Schedule.due(s0, s1, t0, t1, &walls[i], now) {
 				if err := o.Observer.Observe(event(false, false)); err != nil {
 					if opt.Progress != nil {
 						opt.Progress.Stop()
@@ -209,7 +234,7 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 				}
 			}
 		}
-		if opt.Checkpoint != nil && fire(opt.CheckpointSchedule, &ckDue) {
+		if opt.Checkpoint != nil && opt.CheckpointSchedule.due(s0, s1, t0, t1, &ckWall, now) {
 			if err := checkpoint(); err != nil {
 				if opt.Progress != nil {
 					opt.Progress.Stop()

@@ -66,8 +66,10 @@ func TestRunFinishesAndSchedules(t *testing.T) {
 	if got, want := steps(byStep), []int{0, 3, 6, 9, 10}; !equalInts(got, want) {
 		t.Errorf("step observer at %v, want %v", got, want)
 	}
-	// every 0.25 in time: first step with t ≥ 0.25 is 3 (0.3), then 0.55 → step 6 (0.6), 0.85 → 9.
-	if got, want := steps(byTime), []int{3, 6, 9, 10}; !equalInts(got, want) {
+	// Marks at multiples of 0.25: crossed by step 3 (t = 0.3), 5 (0.5, on
+	// the mark), 8 (0.8) and 10 (1.0, a sum of ten 0.1 that lands within
+	// 1e-9 of the mark); then the final call repeats step 10.
+	if got, want := steps(byTime), []int{3, 5, 8, 10, 10}; !equalInts(got, want) {
 		t.Errorf("time observer at %v, want %v", got, want)
 	}
 	if last := byStep.events[len(byStep.events)-1]; !last.Final || last.Failed {
@@ -152,6 +154,35 @@ func TestRunObserverErrorStops(t *testing.T) {
 	}
 }
 
+// TestScheduleIsStateless: a run resumed at a checkpoint fires at the same
+// steps as an uninterrupted one, because marks depend only on the clock.
+func TestScheduleIsStateless(t *testing.T) {
+	run := func(sys *fakeSystem, max int, resumed bool) []int {
+		rec := &recorder{}
+		_, err := Run(context.Background(), sys, Options{
+			MaxSteps:  max,
+			Resumed:   resumed,
+			Observers: []Scheduled{{Name: "r", Observer: rec, Schedule: Schedule{EveryTime: 0.7, EverySteps: 4}, AtStart: true}},
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var s []int
+		for _, e := range rec.events {
+			if !e.Final {
+				s = append(s, e.Step)
+			}
+		}
+		return s
+	}
+	whole := run(&fakeSystem{dt: 0.3}, 20, false)
+	first := run(&fakeSystem{dt: 0.3}, 9, false)
+	second := run(&fakeSystem{dt: 0.3, n: 9, t: 9 * 0.3}, 20, true)
+	if got := append(first, second...); !equalInts(got, whole) {
+		t.Errorf("interrupted at step 9 and resumed: observed at %v; uninterrupted %v", got, whole)
+	}
+}
+
 func TestRunNeedsEndCondition(t *testing.T) {
 	if _, err := Run(context.Background(), &fakeSystem{dt: 1}, Options{}); err == nil {
 		t.Fatal("Run without an end condition did not fail")
@@ -161,7 +192,7 @@ func TestRunNeedsEndCondition(t *testing.T) {
 func TestLineProgress(t *testing.T) {
 	var buf bytes.Buffer
 	clock := time.Unix(0, 0)
-	p := &lineProgress{w: &buf, every: 10 * time.Second, now: func() time.Time { return clock }}
+	p := &lineProgress{w: &buf, every: 10 * time.Second, now: func() time.Time { return clock }, scale: 1e-3, unit: "s"}
 	p.Start(0, 10, 0, 0)
 	for i := 1; i <= 10; i++ {
 		clock = clock.Add(4 * time.Second)
@@ -173,7 +204,7 @@ func TestLineProgress(t *testing.T) {
 	if len(lines) != 4 {
 		t.Fatalf("got %d lines, want 4:\n%s", len(lines), buf.String())
 	}
-	if !strings.Contains(lines[0], "step 3") || !strings.Contains(lines[0], "30.0%") || !strings.Contains(lines[0], "eta 28s") {
+	if !strings.Contains(lines[0], "t = 0.003 s") || !strings.Contains(lines[0], "step 3") || !strings.Contains(lines[0], "30.0%") || !strings.Contains(lines[0], "eta 28s") {
 		t.Errorf("first line %q: want step 3, 30.0%% and eta 28s", lines[0])
 	}
 	if !strings.Contains(lines[3], "100.0%") {

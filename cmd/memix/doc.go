@@ -5,6 +5,8 @@
 //
 // Usage:
 //
+//	memix run CONFIG [-o OUTDIR] [--force] [--quiet] [--threads N] [--set key=value]...
+//	memix run --resume OUTDIR [--set time.key=value]...
 //	memix check CONFIG [--json|--csv] [--resolved]
 //	memix mobility CONFIG [--radius 2nm] [--method auto|numerical|…] [--json|--csv]
 //	memix stability CONFIG [--compare OTHER.yaml …] [--subphases] [--figure PATH]
@@ -24,6 +26,8 @@
 //	2  usage or configuration error: an unknown command or flag, a wrong
 //	   number of arguments, or a configuration file that is missing,
 //	   unreadable or invalid (every problem is listed on stderr)
+//	3  interrupted: memix run received SIGINT or SIGTERM, finished its
+//	   step and wrote a checkpoint; memix run --resume continues it
 //
 // # Adding a command
 //

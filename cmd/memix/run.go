@@ -11,6 +11,7 @@ import (
 
 	"github.com/memix-sim/memix/cmd/memix/internal/report"
 	"github.com/memix-sim/memix/config"
+	"github.com/memix-sim/memix/sim"
 )
 
 // version is the program version, set at build time with
@@ -81,6 +82,8 @@ func exitCode(err error) int {
 		return 0
 	case errors.As(err, &ue), config.IsConfigError(err), errors.Is(err, report.ErrFormat), errors.Is(err, errBadInput):
 		return 2
+	case errors.Is(err, sim.ErrInterrupted):
+		return 3
 	}
 	return 1
 }
