@@ -6,6 +6,10 @@ import (
 	"math"
 	"strings"
 	"testing"
+
+	"github.com/memix-sim/memix/config"
+	"github.com/memix-sim/memix/flow"
+	"github.com/memix-sim/memix/spectral"
 )
 
 // Helpers for the tests of the analysis commands.
@@ -114,4 +118,36 @@ func wantBad(t *testing.T, args []string, want ...string) {
 			t.Errorf("memix %q: stderr lacks %q:\n%s", args, w, errs)
 		}
 	}
+}
+
+// mustGridMembrane returns the grid (in metres) and the membrane (SI) of c.
+func mustGridMembrane(t *testing.T, c config.Config) (*spectral.Grid, flow.Membrane) {
+	t.Helper()
+	nx, ny := c.Grid.Size()
+	lx, ly := c.Grid.Lengths()
+	g, err := spectral.NewGrid(nx, ny, float64(lx), float64(ly))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return g, c.FlowMembrane()
+}
+
+func mustSolver(t *testing.T, g *spectral.Grid, m flow.Membrane) *flow.Solver {
+	t.Helper()
+	s, err := flow.NewSolver(g, m)
+	if err != nil {
+		t.Fatal(err)
+	}
+	return s
+}
+
+// mustPlan returns an FFT plan for g, closed when the test ends.
+func mustPlan(t *testing.T, g *spectral.Grid) spectral.Plan {
+	t.Helper()
+	p, err := spectral.NewPlan(g, spectral.Options{Threads: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	t.Cleanup(p.Close)
+	return p
 }

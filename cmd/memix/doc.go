@@ -11,6 +11,8 @@
 //	memix mobility CONFIG [--radius 2nm] [--method auto|numerical|…] [--json|--csv]
 //	memix stability CONFIG [--compare OTHER.yaml …] [--subphases] [--figure PATH]
 //	                [--kmin K] [--kmax K] [--points N] [--json|--csv]
+//	memix response CONFIG [--compare OTHER.yaml] [--rmin R] [--rmax R] [--points N]
+//	               [--figures DIR] [--json|--csv]
 //	memix version [--json|--csv]
 //	memix help [COMMAND]
 //

@@ -84,7 +84,7 @@ func human(v float64, d config.Dim) string {
 			return report.FormatFloat(v/60) + " min"
 		}
 	case dimFlowPerF:
-		return pick([]u{{"µm/(pN·s)", 1e6}, {"m/(N·s)", 1}})
+		return report.FormatFloat(v/1e6) + " µm/(pN·s)"
 	}
 	return config.FormatHuman(v, d)
 }
