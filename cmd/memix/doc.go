@@ -13,6 +13,8 @@
 //	                [--kmin K] [--kmax K] [--points N] [--json|--csv]
 //	memix response CONFIG [--compare OTHER.yaml] [--rmin R] [--rmax R] [--points N]
 //	               [--figures DIR] [--json|--csv]
+//	memix inspect PATH [--json|--csv]
+//	memix mixing OUTDIR [--threshold F] [--window T0:T1] [--spectra N] [--figures] [--json|--csv]
 //	memix version [--json|--csv]
 //	memix help [COMMAND]
 //

@@ -77,6 +77,9 @@ func human(v float64, d config.Dim) string {
 	case config.DimRate:
 		return report.FormatFloat(v) + " s⁻¹"
 	case config.DimTime:
+		if v == 0 {
+			return "0 s"
+		}
 		if math.Abs(v) >= 3600 {
 			return report.FormatFloat(v/3600) + " h"
 		}
@@ -152,7 +155,12 @@ type inputError struct {
 	err  error
 }
 
-func (e inputError) Error() string { return e.path + ": " + e.err.Error() }
+func (e inputError) Error() string {
+	if e.path == "" {
+		return e.err.Error() // the error names the path itself
+	}
+	return e.path + ": " + e.err.Error()
+}
 func (e inputError) Unwrap() error { return e.err }
 
 // errBadInput marks inputError for exitCode.
