@@ -41,7 +41,7 @@ func checkInstability(c config.Config) (advice [][]any, table *report.Table) {
 	if c.Inclusions.Model == "none" && c.Lipids.Model != "phase" {
 		return advice, nil
 	}
-	p, err := predict("config", c, 0, 0)
+	p, err := predict("config", c, 0, 0, false)
 	if err != nil {
 		return append(advice, []any{level(config.Note), "no instability predicted: " + err.Error()}), nil
 	}
@@ -67,7 +67,7 @@ func checkInstability(c config.Config) (advice [][]any, table *report.Table) {
 		table.Rows = append(table.Rows, []any{b.title, len(b.bands) > 0, qcell(b.peak.Wavelength, config.DimLength), rateCell(b.peak.Rate),
 			p.pointsPerWavelength(b), b.unstable, fmt.Sprintf("(%d, %d)", m.Nx, m.Ny), rateCell(m.Rate)})
 		if len(b.bands) == 0 {
-			advice = append(advice, []any{level(config.OK), fmt.Sprintf("%s: uniform state predicted stable (least-damped rate %s)", b.title, human(b.peak.Rate, config.DimRate))})
+			advice = append(advice, []any{level(config.OK), fmt.Sprintf("%s: uniform state predicted stable (the largest growth rate of this mode is %s)", b.title, human(b.peak.Rate, config.DimRate))})
 			continue
 		}
 		n := p.pointsPerWavelength(b)

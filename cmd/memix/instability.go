@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/memix-sim/memix/config"
+	"github.com/memix-sim/memix/spectral"
 	"github.com/memix-sim/memix/stability"
 )
 
@@ -52,7 +53,7 @@ type prediction struct {
 	kmin, kmax float64
 	lx, ly     float64
 	spacing    float64 // larger grid spacing
-	gridKMax   float64 // largest |k| of the grid (Nyquist corner)
+	gridKMax   float64 // largest wavenumber the dealiased grid keeps, the smaller of x and y
 
 	branches []*branch
 }
@@ -120,7 +121,19 @@ func defaultKRange(c config.Config, act stability.Active, hasActive bool, ch sta
 	if !(top > 10*kmin) {
 		top = math.Max(10*kmin, nyquist) // nothing grows anywhere
 	}
+	if hasActive && act.Speed > 0 {
+		// Keep the kinetic operator within half its largest truncation
+		// (see kineticModesNeeded); a band cut here is reported as open.
+		top = math.Max(math.Min(top, kineticKCap(act)), 10*kmin)
+	}
 	return kmin, top
+}
+
+// kineticKCap is the wavenumber up to which kineticModesNeeded stays
+// within half of stability.MaxModes.
+func kineticKCap(act stability.Active) float64 {
+	m := float64(stability.MaxModes / 2)
+	return (m / 4) * (m / 4) * act.RotDiff / act.Speed
 }
 
 // kineticModesNeeded estimates the angular truncation at which the kinetic
@@ -132,8 +145,10 @@ func kineticModesNeeded(act stability.Active, k float64) float64 {
 	return 4 * math.Sqrt(k*act.Speed/act.RotDiff)
 }
 
-// predict analyses c on [kmin, kmax] (both 0: the default interval).
-func predict(name string, c config.Config, kmin, kmax float64) (*prediction, error) {
+// predict analyses c on [kmin, kmax] (both 0: the default interval);
+// critical says whether to find the critical activity, the costliest
+// answer (a root search over many maximisations).
+func predict(name string, c config.Config, kmin, kmax float64, critical bool) (*prediction, error) {
 	act, how, ch, chOK, err := stabilityParams(c)
 	if err != nil {
 		return nil, err
@@ -146,11 +161,21 @@ func predict(name string, c config.Config, kmin, kmax float64) (*prediction, err
 		kmin, kmax = defaultKRange(c, act, p.hasActive, ch, chOK)
 	}
 	p.kmin, p.kmax = kmin, kmax
+	if !(kmin > 0 && kmax > kmin) || math.IsInf(kmax, 0) {
+		return nil, flagError("kmax", human(kmax, dimWavenumber), "1/m", "> --kmin = "+human(kmin, dimWavenumber), config.ErrRange)
+	}
 	lx, ly := c.Grid.Lengths()
 	nx, ny := c.Grid.Size()
 	p.lx, p.ly = float64(lx), float64(ly)
 	p.spacing = float64(c.Grid.Spacing())
-	p.gridKMax = math.Pi * math.Hypot(float64(nx)/p.lx, float64(ny)/p.ly)
+	// The largest |k| the dealiased grid evolves in every direction: the
+	// box modes inside this circle are the ones a run can follow.
+	g, err := spectral.NewGrid(nx, ny, p.lx, p.ly)
+	if err != nil {
+		return nil, err
+	}
+	kx, ky := g.KMaxDealiased()
+	p.gridKMax = math.Min(kx, ky)
 
 	if p.hasActive {
 		b := &branch{key: "active", title: "active inclusions"}
@@ -158,7 +183,7 @@ func predict(name string, c config.Config, kmin, kmax float64) (*prediction, err
 		case act.Speed == 0:
 			b.model = "closed form s(k) = −(βσ₀c₀/4)k²/D(k) − 4D_r − D_t k² (V₀ = 0)"
 			b.rate = act.Rate
-			if act.Alignment != 0 {
+			if act.Alignment != 0 && critical {
 				if cr, err := act.CriticalStress(kmin, kmax); err == nil {
 					b.crit = &cr
 				} else {
@@ -184,7 +209,7 @@ func predict(name string, c config.Config, kmin, kmax float64) (*prediction, err
 			}
 			b.model = fmt.Sprintf("kinetic operator, angular modes |n| ≤ %d (converged: largest change from M = %d is %.2g s⁻¹)", conv.Modes, conv.Previous, conv.Change)
 			b.rate = kin.Rate
-			if act.Alignment != 0 {
+			if act.Alignment != 0 && critical {
 				if cr, err := kin.CriticalStress(kmin, kmax); err == nil {
 					b.crit = &cr
 				} else {
@@ -204,7 +229,7 @@ func predict(name string, c config.Config, kmin, kmax float64) (*prediction, err
 			m := &branch{key: "moment", title: "moment model",
 				model: "moment operator (c, m, Q), leading rate of the flow-coupled sector; both closures linearise alike about the isotropic state",
 				rate:  mom.Rate}
-			if act.Alignment != 0 {
+			if act.Alignment != 0 && critical {
 				if cr, err := mom.CriticalStress(kmin, kmax); err == nil {
 					m.crit = &cr
 				} else {
@@ -247,16 +272,58 @@ func (p *prediction) answer(b *branch) error {
 		kb = math.Max(kb, 1.01*bd.KHi)
 	}
 	b.boxKMax = math.Min(kb, p.gridKMax)
-	if b.box, err = stability.BoxModes(b.rate, p.lx, p.ly, b.boxKMax); err != nil {
+	if b.key != "active" || p.conv == nil {
+		// A cheap rate: evaluate every mode.
+		if b.box, err = stability.BoxModes(b.rate, p.lx, p.ly, b.boxKMax); err != nil {
+			return err
+		}
+		for _, m := range b.box {
+			if m.Rate > 0 {
+				b.unstable++
+			}
+		}
+		return nil
+	}
+	// The kinetic operator costs an eigenvalue problem per |k|: evaluate
+	// it only at the nearBoxK distinct |k| of the box closest to the peak
+	// (in ln k), where the fastest modes of a rate with one maximum lie,
+	// and count the unstable modes by membership of the unstable bands.
+	near, err := stability.BoxModes(func(k float64) float64 { return -math.Abs(math.Log(k / b.peak.K)) }, p.lx, p.ly, b.boxKMax)
+	if err != nil {
 		return err
 	}
-	for _, m := range b.box {
-		if m.Rate > 0 {
-			b.unstable++
+	sel := map[float64]bool{}
+	for _, m := range near {
+		if len(sel) < nearBoxK {
+			sel[m.K] = true
+		}
+		for _, bd := range b.bands {
+			if m.K > bd.KLo && m.K < bd.KHi {
+				b.unstable++
+				break
+			}
+		}
+	}
+	all, err := stability.BoxModes(func(k float64) float64 {
+		if sel[k] {
+			return b.rate(k)
+		}
+		return math.Inf(-1)
+	}, p.lx, p.ly, b.boxKMax)
+	if err != nil {
+		return err
+	}
+	for _, m := range all {
+		if !math.IsInf(m.Rate, -1) {
+			b.box = append(b.box, m)
 		}
 	}
 	return nil
 }
+
+// nearBoxK is the number of distinct box wavenumbers nearest the peak at
+// which the kinetic operator is evaluated for the box modes.
+const nearBoxK = 16
 
 // pointsPerWavelength returns how many grid spacings the fastest
 // wavelength of b spans.
@@ -265,7 +332,7 @@ func (p *prediction) pointsPerWavelength(b *branch) float64 { return b.peak.Wave
 // noBoxMode explains, for a branch with an unstable band but no unstable
 // box mode, why none of the box's modes grows.
 func (p *prediction) noBoxMode(b *branch) string {
-	return fmt.Sprintf("the box holds no unstable mode that the grid resolves (unstable wavelengths %s; the box's longest wavelength is %s, the grid's shortest %s): the uniform state is predicted stable in this box",
+	return fmt.Sprintf("the box holds no unstable mode that the grid resolves (unstable wavelengths %s; the box's longest wavelength is %s, the shortest the dealiased grid keeps %s): the uniform state is predicted stable in this box",
 		bandText(b.bands), human(math.Max(p.lx, p.ly), config.DimLength), human(2*math.Pi/p.gridKMax, config.DimLength))
 }
 

@@ -132,7 +132,7 @@ is a model prediction of the linearised equations, not a measurement.`,
 			}
 			var preds []*prediction
 			for _, n := range all {
-				p, err := predict(n.name, n.cfg, kmin, kmax)
+				p, err := predict(n.name, n.cfg, kmin, kmax, true)
 				if err != nil {
 					if config.IsConfigError(err) {
 						return configError{n.name, err}
@@ -451,7 +451,7 @@ func verdict(p *prediction, b *branch) string {
 		if b.unstable > 0 {
 			return fmt.Sprintf("no unstable band found on the interval, yet %d box modes grow; widen the interval.", b.unstable)
 		}
-		return fmt.Sprintf("predicted stable: every mode decays (slowest rate %s).", human(b.peak.Rate, config.DimRate))
+		return fmt.Sprintf("predicted stable: this mode decays at every wavenumber of the interval (its largest rate is %s).", human(b.peak.Rate, config.DimRate))
 	}
 	s := fmt.Sprintf("predicted unstable: fastest growth at wavelength %s, e-folding time %s; ",
 		human(b.peak.Wavelength, config.DimLength), human(1/b.peak.Rate, config.DimTime))

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"fmt"
 	"image/png"
 	"math"
 	"os"
@@ -89,8 +90,10 @@ func TestStabilityClosedForm(t *testing.T) {
 	if ans("band_shortest") != short || ans("band_longest") != long {
 		t.Errorf("band %v–%v, library %v–%v", ans("band_shortest"), ans("band_longest"), short, long)
 	}
+	// The box modes the dealiased grid keeps in every direction: the 2/3
+	// rule keeps |n| ≤ (256 − 1)/3 = 85 (package spectral).
 	lx, ly := c.Grid.Lengths()
-	modes, _ := stability.BoxModes(act.Rate, float64(lx), float64(ly), math.Pi*256/float64(lx)*math.Sqrt2)
+	modes, _ := stability.BoxModes(act.Rate, float64(lx), float64(ly), 2*math.Pi*85/float64(lx))
 	unstable := 0
 	for _, m := range modes {
 		if m.Rate > 0 {
@@ -148,7 +151,9 @@ func TestStabilityExamples(t *testing.T) {
 func TestStabilityKinetic(t *testing.T) {
 	// D_r = 100/s and V₀ = 1 µm/s: kV₀/D_r ≈ 2 at the fastest k, so
 	// self-propulsion matters there and a few dozen modes converge.
-	p := writeFile(t, strings.Replace(frictionConfig, "rot_diffusion: 1 /s", "rot_diffusion: 100 /s", 1)+"  model: kinetic\n  speed: 1 um/s\n")
+	cfg := strings.Replace(frictionConfig, "rot_diffusion: 1 /s", "rot_diffusion: 100 /s", 1)
+	cfg = strings.Replace(cfg, "n: 256", "n: 64", 1)
+	p := writeFile(t, cfg+"  model: kinetic\n  speed: 1 um/s\n")
 	doc := memixJSON(t, "stability", p)
 	c, _ := config.Load(p)
 	act, _, _, _ := c.Stability()
@@ -172,6 +177,24 @@ func TestStabilityKinetic(t *testing.T) {
 	// Self-propulsion changes the rates: the closed form no longer applies.
 	if pk.Rate == act.Rate(pk.K) {
 		t.Errorf("kinetic rate equals the V₀ = 0 closed form at k = %g", pk.K)
+	}
+	// The box modes, found by evaluating the operator near the peak only,
+	// against every mode the dealiased grid keeps (|n| ≤ (64 − 1)/3 = 21).
+	modes, err := stability.BoxModes(kin.Rate, 1e-6, 1e-6, 2*math.Pi*21/1e-6)
+	if err != nil {
+		t.Fatal(err)
+	}
+	unstable := 0
+	for _, m := range modes {
+		if m.Rate > 0 {
+			unstable++
+		}
+	}
+	ans := func(q string) any { return row(t, doc, "answers", "quantity", q)["active"] }
+	if unstable == 0 || ans("box_unstable_modes") != float64(unstable) || ans("box_fastest_rate") != modes[0].Rate ||
+		ans("box_fastest_mode") != fmt.Sprintf("(%d, %d)", modes[0].Nx, modes[0].Ny) {
+		t.Errorf("box: %v unstable, fastest %v %v; every mode: %d unstable, fastest (%d, %d) %v",
+			ans("box_unstable_modes"), ans("box_fastest_mode"), ans("box_fastest_rate"), unstable, modes[0].Nx, modes[0].Ny, modes[0].Rate)
 	}
 }
 
