@@ -437,7 +437,7 @@ func answersTable(p *prediction) *report.Table {
 			}
 			t.Notes = append(t.Notes, fmt.Sprintf("%s: with β = %g only %s inclusions can destabilise the isotropic state; the configured ones are %s.", b.title, p.act.Alignment, need, p.cfg.Inclusions.Kind))
 		}
-		if b.peak.AtBound {
+		if b.peak.AtBound && b.peak.Rate > 0 {
 			t.Notes = append(t.Notes, fmt.Sprintf("%s: the largest rate is at an end of the k interval; widen it with --kmin/--kmax.", b.title))
 		}
 		t.Notes = append(t.Notes, b.title+": "+verdict(p, b))
