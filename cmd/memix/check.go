@@ -21,8 +21,13 @@ func newCheckCmd(e *env) *cobra.Command {
 		Long: `check reads a configuration file, applies the MEMIX_* environment overrides and validates
 every key. On success it prints the lengths the membrane hydrodynamics sets (Saffman–Delbrück,
 wall and friction screening), the reduced units, and advice on whether the grid resolves
-those lengths and the box holds them. On failure it lists every problem, each with its key,
-value, unit and valid range, and exits with status 2. The lengths are model predictions.`,
+those lengths and the box holds them. With active inclusions or phase-separating lipids it also
+predicts the instability of the uniform state (as memix stability does): the fastest-growing
+wavelength, whether the grid puts at least 4 points on it (a warning otherwise) and whether
+the box holds an unstable mode; with a composition-dependent membrane viscosity, the
+viscosity contrast. On failure it lists every problem, each with its key,
+value, unit and valid range, and exits with status 2. The lengths and rates are model
+predictions.`,
 		Example: "  memix check examples/glass-gap.yaml\n  memix check --json run.yaml\n  memix check --resolved run.yaml > config.resolved.yaml",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -146,6 +151,8 @@ func checkDoc(path string, c config.Config, r *config.Reduced) report.Doc {
 	for _, a := range s.Advice {
 		advice.Rows = append(advice.Rows, []any{a.Level.String(), a.Text})
 	}
+	more, instability := checkInstability(c)
+	advice.Rows = append(advice.Rows, more...)
 
 	nx, ny := c.Grid.Size()
 	return report.Doc{
@@ -155,6 +162,17 @@ func checkDoc(path string, c config.Config, r *config.Reduced) report.Doc {
 			{Key: "grid_points", Title: "grid points", Value: fmt.Sprintf("%d×%d", nx, ny)},
 			{Key: "fft", Title: "FFT", Value: fmt.Sprintf("%s, %d threads", c.Grid.Backend(), c.Grid.ThreadCount())},
 		},
-		Tables: []*report.Table{lengths, units, advice},
+		Tables: tables(lengths, units, advice, instability),
 	}
+}
+
+// tables drops the nil tables.
+func tables(ts ...*report.Table) []*report.Table {
+	var out []*report.Table
+	for _, t := range ts {
+		if t != nil {
+			out = append(out, t)
+		}
+	}
+	return out
 }

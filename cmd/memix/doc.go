@@ -8,6 +8,13 @@
 //	memix run CONFIG [-o OUTDIR] [--force] [--quiet] [--threads N] [--set key=value]...
 //	memix run --resume OUTDIR [--set time.key=value]...
 //	memix check CONFIG [--json|--csv] [--resolved]
+//	memix mobility CONFIG [--radius 2nm] [--method auto|numerical|…] [--json|--csv]
+//	memix stability CONFIG [--compare OTHER.yaml …] [--subphases] [--figure PATH]
+//	                [--kmin K] [--kmax K] [--points N] [--json|--csv]
+//	memix response CONFIG [--compare OTHER.yaml] [--rmin R] [--rmax R] [--points N]
+//	               [--figures DIR] [--json|--csv]
+//	memix inspect PATH [--json|--csv]
+//	memix mixing OUTDIR [--threshold F] [--window T0:T1] [--spectra N] [--figures] [--json|--csv]
 //	memix version [--json|--csv]
 //	memix help [COMMAND]
 //

@@ -80,7 +80,7 @@ func exitCode(err error) int {
 	switch {
 	case err == nil:
 		return 0
-	case errors.As(err, &ue), config.IsConfigError(err), errors.Is(err, report.ErrFormat):
+	case errors.As(err, &ue), config.IsConfigError(err), errors.Is(err, report.ErrFormat), errors.Is(err, errBadInput):
 		return 2
 	case errors.Is(err, sim.ErrInterrupted):
 		return 3
