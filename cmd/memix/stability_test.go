@@ -140,7 +140,11 @@ func TestStabilityExamples(t *testing.T) {
 		}
 		out, _, code = memix(t, "stability", f, "--points", "5", "--csv")
 		head := csvBlock(t, out, "rates")[0]
-		if code != 0 || strings.Join(head, ",") != "k [1/m],wavelength [m],rate_active [1/s],rate_moment [1/s]" {
+		want := "k [1/m],wavelength [m],rate_active [1/s],rate_moment [1/s]"
+		if c, err := config.Load(f); err == nil && c.Lipids.Model == "phase" {
+			want += ",rate_lipids [1/s]" // the Cahn–Hilliard branch
+		}
+		if code != 0 || strings.Join(head, ",") != want {
 			t.Errorf("%s --csv: header %q", f, head)
 		}
 	}
