@@ -15,6 +15,11 @@
 //	               [--figures DIR] [--json|--csv]
 //	memix inspect PATH [--json|--csv]
 //	memix mixing OUTDIR [--threshold F] [--window T0:T1] [--spectra N] [--figures] [--json|--csv]
+//	memix scan SWEEP -o SCANDIR [--workers N] [--threads T] [--dry-run]
+//	memix scan SWEEP -o SCANDIR --slurm [--partition P --time T --cpus C --mem M --max-parallel K] [--dry-run]
+//	memix scan status SCANDIR [--json|--csv]
+//	memix gather SCANDIR [-o DIR] [--all] [--no-figures] [--json|--csv]
+//	memix bench [--sizes 128,256] [--models moments,kinetic-8] [--threads N] [--json|--csv]
 //	memix version [--json|--csv]
 //	memix help [COMMAND]
 //
@@ -26,12 +31,13 @@
 //
 //	0  success
 //	1  failure: the command ran and could not complete (an I/O error, a
-//	   numerical failure, an interruption)
+//	   numerical failure, a failed point of a scan)
 //	2  usage or configuration error: an unknown command or flag, a wrong
 //	   number of arguments, or a configuration file that is missing,
 //	   unreadable or invalid (every problem is listed on stderr)
-//	3  interrupted: memix run received SIGINT or SIGTERM, finished its
-//	   step and wrote a checkpoint; memix run --resume continues it
+//	3  interrupted: memix run (or memix scan) received SIGINT or SIGTERM,
+//	   finished its step and wrote a checkpoint; memix run --resume
+//	   continues it
 //
 // # Adding a command
 //

@@ -234,7 +234,7 @@ func TestCommands(t *testing.T) {
 			t.Errorf("command %s lacks a description or a RunE", c.Name())
 		}
 	}
-	for _, n := range []string{"check", "version"} {
+	for _, n := range []string{"run", "check", "stability", "mobility", "response", "mixing", "inspect", "scan", "gather", "bench", "version"} {
 		if !names[n] {
 			t.Errorf("no command %s", n)
 		}
