@@ -1,6 +1,7 @@
 package config
 
 import (
+	"errors"
 	"fmt"
 	"math"
 
@@ -142,6 +143,31 @@ func (s InitialSection) check(at string, root *Config, report func(*FieldError))
 	}
 }
 
+// RunProblems returns what stops memix run on a configuration that
+// Validate accepts (other commands can use it): nothing to simulate
+// (inclusions.model and lipids.model both none), or inclusion
+// diffusivities that must be computed but cannot be (no subphase and no
+// friction give a disk no finite drag). Each is a FieldError naming the key
+// to change.
+func (c Config) RunProblems() []*FieldError {
+	var out []*FieldError
+	if c.Inclusions.Model == "none" && c.Lipids.Model == "none" {
+		out = append(out, &FieldError{Key: "inclusions.model", Value: "none", Range: "moments|kinetic unless lipids.model is passive or phase",
+			Err: fmt.Errorf("%w: inclusions.model and lipids.model are both none: memix run has nothing to simulate", ErrConflict)})
+	}
+	if c.Inclusions.Model != "none" {
+		if _, _, _, err := c.Diffusivities(); err != nil {
+			var fe *FieldError
+			if errors.As(err, &fe) {
+				out = append(out, fe)
+			} else {
+				out = append(out, &FieldError{Key: "inclusions.radius", Err: err})
+			}
+		}
+	}
+	return out
+}
+
 // EndTime returns time.end, or 100 τ₀.
 func (c Config) EndTime() Time { return c.Time.End.Or(100 * c.TimeUnit()) }
 
@@ -175,7 +201,8 @@ func (c Config) Diffusivities() (dr Rate, dt Diffusivity, how [2]string, err err
 	mob, merr := flow.InclusionMobility(c.FlowMembrane(), float64(in.Radius), float64(c.KT()))
 	if !in.RotDiff.Valid {
 		if mob.Rotation.Drag <= 0 || math.IsNaN(mob.Rotation.Diffusivity) {
-			return 0, 0, how, fmt.Errorf("inclusions.rot_diffusion: cannot compute it from inclusions.radius = %s: %v; give it explicitly", in.Radius, merr)
+			return 0, 0, how, &FieldError{Key: "inclusions.rot_diffusion", Unit: DimRate.Unit(), Range: "≥ 0",
+				Err: fmt.Errorf("%w: cannot compute it from inclusions.radius = %s: %v; give it explicitly", ErrMissing, in.Radius, merr)}
 		}
 		dr = Rate(mob.Rotation.Diffusivity)
 		how[0] = fmt.Sprintf("k_BT/λ_R of a disk of radius %s (%s)", in.Radius, mob.Rotation.Method)
@@ -184,7 +211,8 @@ func (c Config) Diffusivities() (dr Rate, dt Diffusivity, how [2]string, err err
 	}
 	if !in.TransDiff.Valid {
 		if merr != nil {
-			return 0, 0, how, fmt.Errorf("inclusions.trans_diffusion: cannot compute it from inclusions.radius = %s: %w; give it explicitly", in.Radius, merr)
+			return 0, 0, how, &FieldError{Key: "inclusions.trans_diffusion", Unit: DimDiffusivity.Unit(), Range: "≥ 0",
+				Err: fmt.Errorf("%w: cannot compute it from inclusions.radius = %s: %v; give it explicitly", ErrMissing, in.Radius, merr)}
 		}
 		dt = Diffusivity(mob.Translation.Diffusivity)
 		how[1] = fmt.Sprintf("k_BT/λ_T of a disk of radius %s (%s)", in.Radius, mob.Translation.Method)
