@@ -17,8 +17,9 @@
 //     with Final set, the checkpoint is written, and Run returns
 //     ErrInterrupted.
 //   - Failed: Step returned an error (non-finite field, step size
-//     collapse). The failed state is NOT checkpointed, so the last good
-//     checkpoint on disk stays the one to resume from; observers are
-//     called with Final and Failed set so they can close their files, and
-//     Run returns a *StepError wrapping the cause.
+//     collapse), or an observer or the checkpoint failed (a full disk).
+//     The state is NOT checkpointed, so the last good checkpoint on disk
+//     stays the one to resume from; observers are called with Final and
+//     Failed set so they can close their files, and Run returns the error
+//     (a *StepError wrapping the cause for a failed step).
 package sim

@@ -1,6 +1,7 @@
 package sim
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"path/filepath"
@@ -115,7 +116,7 @@ func (j *job) summarise(res Result, runErr error) *Summary {
 		TimeS:         j.model.Time() * float64(u.Time),
 		EndTimeS:      float64(j.cfg.EndTime()),
 	}
-	if runErr != nil && res.Reason != Interrupted {
+	if runErr != nil && !errors.Is(runErr, ErrInterrupted) {
 		s.Status = string(Failed)
 		s.Error = runErr.Error()
 	}
@@ -123,8 +124,8 @@ func (j *job) summarise(res Result, runErr error) *Summary {
 		s.DtMinS, s.DtMaxS = ptr(res.MinDt*float64(u.Time)), ptr(res.MaxDt*float64(u.Time))
 		s.FFTsPerStep = ptr(float64(j.ffts) / float64(j.model.Steps()))
 	}
-	if res.LastGood >= 0 {
-		s.LastCheckpointStep = ptr(res.LastGood)
+	if j.ckStep >= 0 {
+		s.LastCheckpointStep = ptr(j.ckStep)
 	}
 	s.Units.LengthM, s.Units.TimeS = float64(u.Length), float64(u.Time)
 	s.SaffmanDelbruckM = finitePtr(j.red.MembraneSI.SaffmanDelbruck())

@@ -22,7 +22,12 @@ func newCheckCmd(e *env) *cobra.Command {
 every key. On success it prints the lengths the membrane hydrodynamics sets (Saffman–Delbrück,
 wall and friction screening), the reduced units, and advice on whether the grid resolves
 those lengths and the box holds them. On failure it lists every problem, each with its key,
-value, unit and valid range, and exits with status 2. The lengths are model predictions.`,
+value, unit and valid range, and exits with status 2. The lengths are model predictions.
+
+Problems that stop memix run but not the other commands are listed as warnings (exit
+status 0): nothing to simulate, inclusion diffusivities that cannot be derived, and a
+grid that does not resolve the lipid interface or the fastest-growing wavelength (which
+memix run --force-resolution accepts).`,
 		Example: "  memix check examples/glass-gap.yaml\n  memix check --json run.yaml\n  memix check --resolved run.yaml > config.resolved.yaml",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -145,6 +150,13 @@ func checkDoc(path string, c config.Config, r *config.Reduced) report.Doc {
 	}
 	for _, a := range s.Advice {
 		advice.Rows = append(advice.Rows, []any{a.Level.String(), a.Text})
+	}
+	// What stops memix run although the configuration is valid.
+	for _, p := range c.RunProblems() {
+		advice.Rows = append(advice.Rows, []any{config.Warn.String(), "memix run refuses this: " + p.Error()})
+	}
+	for _, p := range c.ResolutionWarnings() {
+		advice.Rows = append(advice.Rows, []any{config.Warn.String(), "memix run refuses this unless --force-resolution: " + p.Error()})
 	}
 
 	nx, ny := c.Grid.Size()
