@@ -111,19 +111,30 @@ func (s LipidsSection) check(at string, root *Config, report func(*FieldError)) 
 		lx, ly := root.Grid.Lengths()
 		box := math.Min(float64(lx), float64(ly))
 		if 2*math.Sqrt2*float64(s.Interface) >= box/2 {
-			report(&FieldError{Key: at + ".interface", Value: s.Interface.String(), Range: fmt.Sprintf("< %s (a quarter of the box over √2)", Length(box/(4*math.Sqrt2))),
+			report(&FieldError{Key: at + ".interface", Value: root.valueText(theSchema().byKey[at+".interface"], float64(s.Interface)), Range: fmt.Sprintf("< %s (a quarter of the box over √2)", Length(box/(4*math.Sqrt2))),
 				Err: fmt.Errorf("%w: an interface %s wide does not fit twice in the box %s", ErrConflict, Length(2*math.Sqrt2*float64(s.Interface)), Length(box))})
 		}
 	}
 }
 
+// check compares the steps with each other and with the end time, given
+// or derived from their fallbacks (dt_max = end/200, end = 100 τ₀).
 func (s TimeSection) check(at string, root *Config, report func(*FieldError)) {
-	if s.DtMin.Valid && s.DtMax.Valid && s.DtMin.V > s.DtMax.V {
-		report(&FieldError{Key: at + ".dt_min", Value: s.DtMin.V.String(), Range: "≤ time.dt_max = " + s.DtMax.V.String(),
+	value := func(key string, x Time) string { return root.valueText(theSchema().byKey[key], float64(x)) }
+	if dtMax := root.DtMax(); s.DtMin.Valid && s.DtMin.V > dtMax {
+		from := "time.dt_max = " + dtMax.String()
+		if !s.DtMax.Valid {
+			from += " (time.end / 200)"
+		}
+		report(&FieldError{Key: at + ".dt_min", Value: value(at+".dt_min", s.DtMin.V), Range: "≤ " + from,
 			Err: fmt.Errorf("%w: the smallest step exceeds the largest", ErrConflict)})
 	}
-	if s.End.Valid && s.DtMax.Valid && s.DtMax.V > s.End.V {
-		report(&FieldError{Key: at + ".dt_max", Value: s.DtMax.V.String(), Range: "≤ time.end = " + s.End.V.String(),
+	if end := root.EndTime(); s.DtMax.Valid && s.DtMax.V > end {
+		from := "time.end = " + end.String()
+		if !s.End.Valid {
+			from += " (100 τ₀)"
+		}
+		report(&FieldError{Key: at + ".dt_max", Value: value(at+".dt_max", s.DtMax.V), Range: "≤ " + from,
 			Err: fmt.Errorf("%w: the largest step exceeds the whole run", ErrConflict)})
 	}
 }
