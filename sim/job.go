@@ -453,7 +453,9 @@ func (j *job) initialState() error {
 		case "mode":
 			err = m.SetLipidUniform(in.Mean)
 		case "file":
-			err = j.lipidsFromFile(in.File.V, in.FileSnapshot)
+			if err := j.lipidsFromFile(in.File.V, in.FileSnapshot); err != nil {
+				return &config.FieldError{Key: "initial.file", Value: in.File.V, Err: fmt.Errorf("%w: %w", config.ErrFile, err)}
+			}
 		}
 		if err != nil {
 			return fmt.Errorf("initial.lipids = %s: %w", in.Lipids, err)
@@ -467,7 +469,9 @@ func (j *job) initialState() error {
 	return nil
 }
 
-// lipidsFromFile sets φ from the field phi of a memix HDF5 file.
+// lipidsFromFile sets φ from the field phi of a memix HDF5 file: a
+// snapshot of a snapshot file or index, or the exact spectral φ of a
+// checkpoint.
 func (j *job) lipidsFromFile(path string, snap int) error {
 	f, err := outputs.Open(path)
 	if err != nil {
@@ -476,6 +480,18 @@ func (j *job) lipidsFromFile(path string, snap int) error {
 	defer f.Close()
 	if err := f.CheckGrid(j.red.Grid); err != nil {
 		return err
+	}
+	if f.Kind() == outputs.KindCheckpoint {
+		ck, err := outputs.ReadCheckpoint(path, j.red.Grid, outputs.Expect{Spectral: []string{"phi"}})
+		if err != nil {
+			return err
+		}
+		data := ck.SpectralByName("phi").Data
+		if !finite(data) {
+			return fmt.Errorf("%s: the field phi of the checkpoint is not finite", path)
+		}
+		j.model.SetSpectral(j.iPhi, data)
+		return nil
 	}
 	n := len(f.Snapshots())
 	if n == 0 {

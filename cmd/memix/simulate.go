@@ -88,9 +88,12 @@ quick look or a convergence study).`,
 				printRunSummary(e, dir, sum)
 			}
 			if len(config.Problems(err)) > 0 {
-				src := dir
+				src := filepath.Join(dir, sim.ResolvedFile)
 				if resume == "" {
 					src = args[0]
+				}
+				if len(set) > 0 {
+					src += " with --set"
 				}
 				return configError{src, err}
 			}
