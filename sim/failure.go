@@ -128,7 +128,7 @@ func (j *job) explain(err error) *FailureError {
 	g := j.red.Grid
 	at := func(i, k int) string {
 		fe.X, fe.Y = float64(i)*float64(lx)/float64(g.Nx), float64(k)*float64(ly)/float64(g.Ny)
-		return fmt.Sprintf("x = %s, y = %s (grid point (%d, %d))", config.Length(fe.X), config.Length(fe.Y), i, k)
+		return fmt.Sprintf("x = %s, y = %s (grid point (%d, %d))", lengthText(fe.X), lengthText(fe.Y), i, k)
 	}
 
 	var se *StepError
@@ -245,4 +245,12 @@ func timeText(t float64) string {
 		return "0 s"
 	}
 	return config.Time(t).String()
+}
+
+// lengthText writes a length for people; 0 is "0 m".
+func lengthText(x float64) string {
+	if x == 0 {
+		return "0 m"
+	}
+	return config.Length(x).String()
 }
