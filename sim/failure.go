@@ -135,8 +135,8 @@ func (j *job) explain(err error) *FailureError {
 	if !errors.As(err, &se) {
 		// An output could not be written (a full disk, a quota, a removed
 		// directory): the error names the file.
-		fe.What = fmt.Sprintf("writing the outputs failed: %v", err)
-		fe.Resume = "free space (or fix the cause above), then " + resume()
+		fe.What = fmt.Sprintf("writing the outputs failed: %v. Free space (or fix the cause) before continuing", err)
+		fe.Resume = resume()
 		return fe
 	}
 	fe.Step, fe.TimeS = se.Step, se.Time*tau
