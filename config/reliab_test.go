@@ -170,3 +170,42 @@ func TestStepConflictsWithFallbacks(t *testing.T) {
 		t.Errorf("dt_min below end/200: %v", err)
 	}
 }
+
+// FuzzSetAll: no key and value given on the command line (memix run
+// --set key=value, which goes through SetAll) makes it panic; every
+// failure is a list of FieldErrors whose messages start with their key,
+// and a success validates.
+func FuzzSetAll(f *testing.F) {
+	for _, kv := range [][2]string{
+		{"grid.n", "64"}, {"grid.n", "127"}, {"time.end", "3 nm"}, {"time.dt_min", "1 s"},
+		{"inclusions.model", "kinetic"}, {"inclusions.speed", "1 um/s"}, {"lipids.model", "phase"},
+		{"initial.lipids", "file"}, {"initial.file", "x.h5"}, {"output.snapshots", "1e9"},
+		{"nokey", "1"}, {"membrane", "5"}, {"temperature", "1 kT"}, {"inclusions.dipole", "-0 kT"},
+		{"time.max_steps", "1e12"}, {"initial.seed", "9007199254740993"}, {"grid.box", "1 µm²/µm"},
+	} {
+		f.Add(kv[0], kv[1])
+	}
+	f.Fuzz(func(t *testing.T, key, value string) {
+		c, err := Default().SetAll([][2]string{{key, value}})
+		if err == nil {
+			if verr := c.Validate(); verr != nil {
+				t.Fatalf("SetAll accepted an invalid configuration: %v", verr)
+			}
+			for _, p := range append(c.RunProblems(), c.ResolutionWarnings()...) {
+				if !strings.HasPrefix(p.Error(), p.Key) {
+					t.Fatalf("message %q does not start with its key", p)
+				}
+			}
+			return
+		}
+		ps := Problems(err)
+		if len(ps) == 0 {
+			t.Fatalf("error of an unexpected kind: %#v", err)
+		}
+		for _, p := range ps {
+			if !strings.HasPrefix(p.Error(), p.Key) {
+				t.Fatalf("message %q does not start with its key", p)
+			}
+		}
+	})
+}
