@@ -2,8 +2,10 @@ package sim
 
 import (
 	"context"
+	"encoding/json"
 	"errors"
 	"math"
+	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -126,5 +128,40 @@ func TestRunWriteFailureEndsFailed(t *testing.T) {
 	}
 	if n := len(rec.events); n != 1 || !rec.events[0].Final || !rec.events[0].Failed {
 		t.Errorf("observer events %+v, want one final failed", rec.events)
+	}
+}
+
+// TestSummaryOfDivergingRun: the norms of a diverging run can overflow;
+// summary.json must still be written, with null where a value is not
+// finite, and keep the finite ones.
+func TestSummaryOfDivergingRun(t *testing.T) {
+	n := NormSummary{Initial: 0.5, Final: math.Inf(1), Ratio: math.Inf(1), PowerExponent: ptr(2.0)}
+	b, err := json.Marshal(map[string]*NormSummary{"mixnorm": &n})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := `{"mixnorm":{"initial":0.5,"final":null,"ratio":null,"decay_rate_per_s":null,"fit_start_s":null,"fit_end_s":null,"power_exponent":2,"threshold_time_s":null}}`
+	if string(b) != want {
+		t.Errorf("got  %s\nwant %s", b, want)
+	}
+}
+
+// TestDivergingRunWritesSummary: a fixed step a little too large (3 ms)
+// lets the fields grow for a dozen steps before they overflow, long
+// enough for a diagnostic of series.csv (a sum of squares) to overflow
+// first. summary.json must still be written (it was not: JSON has no
+// infinity), saying the run failed.
+func TestDivergingRunWritesSummary(t *testing.T) {
+	c := parse(t, smallRun, "time.fixed=true", "time.dt_max=3 ms", "time.end=1 s", "output.rows=1000")
+	dir := t.TempDir()
+	if _, err := Start(context.Background(), c, dir, opts()); err == nil {
+		t.Fatal("the run did not fail")
+	}
+	series, _ := os.ReadFile(filepath.Join(dir, SeriesFile))
+	if !strings.Contains(string(series), "Inf") {
+		t.Fatal("no diagnostic overflowed: the test no longer covers the case")
+	}
+	if s := readSummary(t, dir); s.Status != "failed" || !strings.Contains(s.Error, "non-finite") {
+		t.Errorf("summary: %q, %q", s.Status, s.Error)
 	}
 }

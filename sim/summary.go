@@ -1,6 +1,7 @@
 package sim
 
 import (
+	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
@@ -91,6 +92,19 @@ type NormSummary struct {
 	// ThresholdTimeS is when the norm first fell to output.threshold of its
 	// initial value.
 	ThresholdTimeS *float64 `json:"threshold_time_s"`
+}
+
+// MarshalJSON writes Initial, Final and Ratio as null when they are not
+// finite (a diverging run's norms can overflow), which JSON cannot hold:
+// otherwise summary.json of such a run could not be written at all.
+func (n NormSummary) MarshalJSON() ([]byte, error) {
+	type plain NormSummary // without this method
+	return json.Marshal(struct {
+		Initial *float64 `json:"initial"`
+		Final   *float64 `json:"final"`
+		Ratio   *float64 `json:"ratio"`
+		plain
+	}{finitePtr(n.Initial), finitePtr(n.Final), finitePtr(n.Ratio), plain(n)})
 }
 
 func ptr[T any](v T) *T { return &v }
@@ -189,7 +203,7 @@ func (j *job) seriesSummary(s *Summary) {
 	if i, ok := col["domain_length"]; ok {
 		l := float64(j.red.Units.Length)
 		s.DomainLengthM = &struct{ Initial, Final float64 }{rows[0][i] * l, last[i] * l}
-		if math.IsInf(s.DomainLengthM.Initial, 0) || math.IsInf(s.DomainLengthM.Final, 0) {
+		if finitePtr(s.DomainLengthM.Initial) == nil || finitePtr(s.DomainLengthM.Final) == nil {
 			s.DomainLengthM = nil
 		}
 	}
