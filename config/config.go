@@ -61,7 +61,7 @@ func (m MembraneSection) check(at string, root *Config, report func(*FieldError)
 			v    Optional[SurfaceViscosity]
 		}{{"viscosity_plus", m.Plus}, {"viscosity_minus", m.Minus}} {
 			if k.v.Valid {
-				report(&FieldError{Key: at + "." + k.name, Value: k.v.V.String(), Range: "not set with viscosity_rule constant",
+				report(&FieldError{Key: at + "." + k.name, Value: root.valueText(theSchema().byKey[at+"."+k.name], float64(k.v.V)), Range: "not set with viscosity_rule constant",
 					Err: fmt.Errorf("%w: phase viscosities are used only by the log-linear and linear rules; set membrane.viscosity_rule", ErrConflict)})
 			}
 		}

@@ -433,7 +433,19 @@ func FuzzParse(f *testing.F) {
 		f.Add(data)
 	}
 	for _, s := range []string{"", "membrane: 5", "grid: {n: 127}", "subphase: {upper: {kind: wall}}", "a: [1, {b: c}]",
-		"temperature: 1 kT", "grid: {box: .inf}", "membrane: {viscosity: !!binary aGVsbG8=}", "&a [*a]", "? [a]\n: b"} {
+		"temperature: 1 kT", "grid: {box: .inf}", "membrane: {viscosity: !!binary aGVsbG8=}", "&a [*a]", "? [a]\n: b",
+		// The sections of memix run, and their combinations across keys.
+		"inclusions: {model: kinetic, harmonics: 2, speed: 1 um/s, dipole: 40 pN*nm, kind: contractile}",
+		"inclusions: {model: moments, speed: 1 um/s, partition: 3}\nlipids: {model: none}",
+		"lipids: {model: phase, interface: 5 nm, line_tension: 2 pN, backreaction: true}\ngrid: {n: 8}",
+		"membrane: {viscosity_rule: log-linear, viscosity_plus: 1e-8 Pa*s*m, viscosity_minus: 1e-10 Pa*s*m}",
+		"time: {end: 1 ms, dt_max: 2 ms, dt_min: 3 ms, courant: 2, fixed: true, max_steps: 1e12}",
+		"output: {snapshots: 0, rows: 1, checkpoint_wall: 1 ns, mix_length: 1 um, threshold: 0.999}",
+		"initial: {lipids: file, file: x.h5, file_snapshot: -1000000, inclusions: mode, mode_field: q12, mode_x: -65536}",
+		"initial: {lipids: disks, disks: 100000, disk_radius: 1 nm, seed: 9007199254740992}",
+		"subphase: {upper: {kind: none}, lower: {kind: none}}\ninclusions: {rot_diffusion: 0 /s}",
+		"grid: {nx: 4, ny: 65536, lx: 1 nm, ly: 1 m}\ninclusions: {dipole: 1e30 kT}",
+	} {
 		f.Add([]byte(s))
 	}
 	f.Fuzz(func(t *testing.T, data []byte) {
@@ -442,11 +454,22 @@ func FuzzParse(f *testing.F) {
 			if verr := c.Validate(); verr != nil {
 				t.Fatalf("Parse accepted an invalid configuration: %v", verr)
 			}
+			// What memix run checks next must not panic either.
+			for _, p := range append(c.RunProblems(), c.ResolutionWarnings()...) {
+				if !strings.HasPrefix(p.Error(), p.Key) {
+					t.Fatalf("message %q does not start with its key", p)
+				}
+			}
 			return
 		}
 		var fe *FileError
 		if !errors.As(err, &fe) && len(Problems(err)) == 0 {
 			t.Fatalf("error of an unexpected kind: %#v", err)
+		}
+		for _, p := range Problems(err) {
+			if !strings.HasPrefix(p.Error(), p.Key) {
+				t.Fatalf("message %q does not start with its key", p)
+			}
 		}
 	})
 }

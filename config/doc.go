@@ -76,8 +76,9 @@
 // joined with errors.Join; each is a *FieldError with the key, the value as
 // given, the SI unit and the valid range, wrapping a sentinel (ErrSyntax,
 // ErrUnit, ErrDimension, ErrRange, ErrUnknownKey, ErrConflict,
-// ErrMissing). Problems lists them. A malformed schema tag is a programmer
-// error and panics on first use (TestSchema catches it).
+// ErrMissing, ErrFile; ErrResolution for ResolutionWarnings). Problems
+// lists them. A malformed schema tag is a programmer error and panics on
+// first use (TestSchema catches it).
 //
 // # Reduced units
 //

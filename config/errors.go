@@ -8,8 +8,8 @@ import (
 
 // FieldError is a problem with one configuration key, in the manner of
 // encoding/csv's ParseError. Err wraps one of the sentinels ErrSyntax,
-// ErrUnit, ErrDimension, ErrRange, ErrUnknownKey, ErrConflict or
-// ErrMissing (test with errors.Is).
+// ErrUnit, ErrDimension, ErrRange, ErrUnknownKey, ErrConflict, ErrMissing,
+// ErrFile or ErrResolution (test with errors.Is).
 type FieldError struct {
 	Key     string // dotted key, e.g. "membrane.viscosity", or an environment variable
 	Value   string // the value as given ("" if none)

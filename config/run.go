@@ -1,6 +1,7 @@
 package config
 
 import (
+	"errors"
 	"fmt"
 	"math"
 
@@ -32,7 +33,7 @@ type InclusionsSection struct {
 type LipidsSection struct {
 	Model        string      `key:"model" default:"passive" enum:"none|passive|phase" doc:"Equation of the lipid composition φ ∈ [−1, 1]: passive (advection and diffusion), phase (Cahn–Hilliard phase separation with phases φ = ±1: ordered and disordered domains), or none."`
 	Diffusion    Diffusivity `key:"diffusion" default:"1 um^2/s" range:"(0,inf)" doc:"For passive: the lipid diffusivity D_φ (fluid bilayers: about 1 to 10 um^2/s, from memory). For phase: the mobility M of ∂tφ = M∇²μ with μ = φ³ − φ − ε²∇²φ, which is also the diffusivity far from the interfaces divided by 2."`
-	Interface    Length      `key:"interface" default:"20 nm" range:"(0,inf)" doc:"Interface parameter ε of the phase model: the equilibrium profile across a flat boundary is tanh(x/(√2 ε)), so the boundary is about 2√2 ε wide. The grid should put at least 2 points across ε√2."`
+	Interface    Length      `key:"interface" default:"120 nm" range:"(0,inf)" doc:"Interface parameter ε of the phase model: the equilibrium profile across a flat boundary is tanh(x/(√2 ε)), so the boundary is about 2√2 ε wide. Real boundaries between lipid phases are nanometres wide, but the phase field needs at least 2 grid points across ε√2 (memix run checks this), so ε is in practice a numerical width chosen from the grid; the line tension carries the physics. The default suits the default grid."`
 	LineTension  Force       `key:"line_tension" default:"1 pN" range:"(0,inf)" doc:"Line tension γ of the boundary between the phases (energy per length; lipid domains: about 0.1 to 10 pN, from memory). It sets the free-energy density A = 3γ/(2√2 ε) of the phase model; used by lipids.backreaction."`
 	Backreaction bool        `key:"backreaction" default:"false" doc:"Let the line tension push on the membrane (the Korteweg force −Aφ∇μ), so that domains also coarsen by the flow they drive (phase model only)."`
 }
@@ -110,19 +111,30 @@ func (s LipidsSection) check(at string, root *Config, report func(*FieldError)) 
 		lx, ly := root.Grid.Lengths()
 		box := math.Min(float64(lx), float64(ly))
 		if 2*math.Sqrt2*float64(s.Interface) >= box/2 {
-			report(&FieldError{Key: at + ".interface", Value: s.Interface.String(), Range: fmt.Sprintf("< %s (a quarter of the box over √2)", Length(box/(4*math.Sqrt2))),
+			report(&FieldError{Key: at + ".interface", Value: root.valueText(theSchema().byKey[at+".interface"], float64(s.Interface)), Range: fmt.Sprintf("< %s (a quarter of the box over √2)", Length(box/(4*math.Sqrt2))),
 				Err: fmt.Errorf("%w: an interface %s wide does not fit twice in the box %s", ErrConflict, Length(2*math.Sqrt2*float64(s.Interface)), Length(box))})
 		}
 	}
 }
 
+// check compares the steps with each other and with the end time, given
+// or derived from their fallbacks (dt_max = end/200, end = 100 τ₀).
 func (s TimeSection) check(at string, root *Config, report func(*FieldError)) {
-	if s.DtMin.Valid && s.DtMax.Valid && s.DtMin.V > s.DtMax.V {
-		report(&FieldError{Key: at + ".dt_min", Value: s.DtMin.V.String(), Range: "≤ time.dt_max = " + s.DtMax.V.String(),
+	value := func(key string, x Time) string { return root.valueText(theSchema().byKey[key], float64(x)) }
+	if dtMax := root.DtMax(); s.DtMin.Valid && s.DtMin.V > dtMax {
+		from := "time.dt_max = " + dtMax.String()
+		if !s.DtMax.Valid {
+			from += " (time.end / 200)"
+		}
+		report(&FieldError{Key: at + ".dt_min", Value: value(at+".dt_min", s.DtMin.V), Range: "≤ " + from,
 			Err: fmt.Errorf("%w: the smallest step exceeds the largest", ErrConflict)})
 	}
-	if s.End.Valid && s.DtMax.Valid && s.DtMax.V > s.End.V {
-		report(&FieldError{Key: at + ".dt_max", Value: s.DtMax.V.String(), Range: "≤ time.end = " + s.End.V.String(),
+	if end := root.EndTime(); s.DtMax.Valid && s.DtMax.V > end {
+		from := "time.end = " + end.String()
+		if !s.End.Valid {
+			from += " (100 τ₀)"
+		}
+		report(&FieldError{Key: at + ".dt_max", Value: value(at+".dt_max", s.DtMax.V), Range: "≤ " + from,
 			Err: fmt.Errorf("%w: the largest step exceeds the whole run", ErrConflict)})
 	}
 }
@@ -140,6 +152,31 @@ func (s InitialSection) check(at string, root *Config, report func(*FieldError))
 		report(&FieldError{Key: at + ".lipids", Value: s.Lipids, Range: "not uniform with lipids.model = phase",
 			Err: fmt.Errorf("%w: a uniform composition never phase-separates (no fluctuation seeds it); use random or mode", ErrConflict)})
 	}
+}
+
+// RunProblems returns what stops memix run on a configuration that
+// Validate accepts (other commands can use it): nothing to simulate
+// (inclusions.model and lipids.model both none), or inclusion
+// diffusivities that must be computed but cannot be (no subphase and no
+// friction give a disk no finite drag). Each is a FieldError naming the key
+// to change.
+func (c Config) RunProblems() []*FieldError {
+	var out []*FieldError
+	if c.Inclusions.Model == "none" && c.Lipids.Model == "none" {
+		out = append(out, &FieldError{Key: "inclusions.model", Value: "none", Range: "moments|kinetic unless lipids.model is passive or phase",
+			Err: fmt.Errorf("%w: inclusions.model and lipids.model are both none: memix run has nothing to simulate", ErrConflict)})
+	}
+	if c.Inclusions.Model != "none" {
+		if _, _, _, err := c.Diffusivities(); err != nil {
+			var fe *FieldError
+			if errors.As(err, &fe) {
+				out = append(out, fe)
+			} else {
+				out = append(out, &FieldError{Key: "inclusions.radius", Err: err})
+			}
+		}
+	}
+	return out
 }
 
 // EndTime returns time.end, or 100 τ₀.
@@ -175,7 +212,8 @@ func (c Config) Diffusivities() (dr Rate, dt Diffusivity, how [2]string, err err
 	mob, merr := flow.InclusionMobility(c.FlowMembrane(), float64(in.Radius), float64(c.KT()))
 	if !in.RotDiff.Valid {
 		if mob.Rotation.Drag <= 0 || math.IsNaN(mob.Rotation.Diffusivity) {
-			return 0, 0, how, fmt.Errorf("inclusions.rot_diffusion: cannot compute it from inclusions.radius = %s: %v; give it explicitly", in.Radius, merr)
+			return 0, 0, how, &FieldError{Key: "inclusions.rot_diffusion", Unit: DimRate.Unit(), Range: "≥ 0",
+				Err: fmt.Errorf("%w: cannot compute it from inclusions.radius = %s: %v; give it explicitly", ErrMissing, in.Radius, merr)}
 		}
 		dr = Rate(mob.Rotation.Diffusivity)
 		how[0] = fmt.Sprintf("k_BT/λ_R of a disk of radius %s (%s)", in.Radius, mob.Rotation.Method)
@@ -184,7 +222,8 @@ func (c Config) Diffusivities() (dr Rate, dt Diffusivity, how [2]string, err err
 	}
 	if !in.TransDiff.Valid {
 		if merr != nil {
-			return 0, 0, how, fmt.Errorf("inclusions.trans_diffusion: cannot compute it from inclusions.radius = %s: %w; give it explicitly", in.Radius, merr)
+			return 0, 0, how, &FieldError{Key: "inclusions.trans_diffusion", Unit: DimDiffusivity.Unit(), Range: "≥ 0",
+				Err: fmt.Errorf("%w: cannot compute it from inclusions.radius = %s: %v; give it explicitly", ErrMissing, in.Radius, merr)}
 		}
 		dt = Diffusivity(mob.Translation.Diffusivity)
 		how[1] = fmt.Sprintf("k_BT/λ_T of a disk of radius %s (%s)", in.Radius, mob.Translation.Method)

@@ -28,6 +28,9 @@ var (
 	ErrUnknownKey = errors.New("unknown key")
 	ErrConflict   = errors.New("conflicts with another key")
 	ErrMissing    = errors.New("missing")
+	// ErrFile: a file a key names cannot be used (missing, damaged, not
+	// a memix file, another grid); memix run reports it under the key.
+	ErrFile = errors.New("unusable file")
 )
 
 // Quantity is a parsed physical quantity: its value in SI base units and

@@ -167,6 +167,10 @@ func (s *Stepper) LevelDt(j int) float64 {
 // Level returns the current ladder level (the level of the last step).
 func (s *Stepper) Level() int { return s.level }
 
+// Levels returns the number of levels of the ladder, from DtMax (level 0)
+// down to the last level not below DtMin.
+func (s *Stepper) Levels() int { return s.nLevels }
+
 // SetLevel sets the ladder level the next step starts from (to resume a run
 // bit for bit). It panics outside [0, number of levels).
 func (s *Stepper) SetLevel(j int) {

@@ -5,7 +5,10 @@ package outputs
 // read the library's error messages, and it silences the library's error
 // printing only on the thread that initialised it (the error stack of a
 // thread-safe libhdf5 is per thread), so the few C calls below fill those
-// gaps. Every HDF5 operation of this package runs inside h5call, which pins
+// gaps; dataset data are written by a C call too, because gonum's Write
+// closes a datatype after a failed H5Dwrite, which clears the error stack
+// (and with it the errno of a full disk). Every HDF5 operation of this
+// package runs inside h5call, which pins
 // the goroutine to one OS thread so that the error stack read after a
 // failure is the one the failure wrote.
 
@@ -14,6 +17,12 @@ package outputs
 #include <hdf5.h>
 #include <stdlib.h>
 #include <string.h>
+
+// memix_h5_write writes a whole dataset from buf, held in memory as mtype;
+// nothing else touches the library before the caller reads the error stack.
+static herr_t memix_h5_write(hid_t ds, hid_t mtype, const void *buf) {
+	return H5Dwrite(ds, mtype, H5S_ALL, H5S_ALL, H5P_DEFAULT, buf);
+}
 
 static void memix_h5_quiet(void) {
 	H5Eset_auto2(H5E_DEFAULT, NULL, NULL);
@@ -431,8 +440,8 @@ func writeDataset[T h5elem](g *hdf5.Group, name string, dims []uint, data []T, u
 		return h5fail("create dataset "+name, err)
 	}
 	if n > 0 {
-		if err := ds.Write(&data); err != nil {
-			e := h5fail("write dataset "+name, err)
+		if rc := C.memix_h5_write(C.hid_t(ds.ID()), C.hid_t(h5type[T]().ID()), unsafe.Pointer(&data[0])); rc < 0 {
+			e := h5fail("write dataset "+name, fmt.Errorf("H5Dwrite returned %d", int(rc)))
 			ds.Close()
 			return e
 		}

@@ -115,7 +115,7 @@ axes:
 // tinyBase is a small real configuration (an invented motor patch on a
 // coarse grid): about 0.3 s per run of 20 ms of model time.
 const tinyBase = `membrane: {viscosity: 1e-9 Pa*s*m}
-grid: {n: 16, box: 5 um, threads: 1}
+grid: {n: 32, box: 5 um, threads: 1}
 inclusions: {dipole: 10 kT, density: 50 um^-2, rot_diffusion: 20 /s}
 lipids: {model: passive}
 time: {end: 20 ms}
@@ -263,7 +263,7 @@ zip:
 func TestTwoScansConcurrently(t *testing.T) {
 	const sweep = "base: base.yaml\naxes: {inclusions.dipole: [10 kT, 12 kT, 14 kT, 16 kT]}\n"
 	a := expandReal(t, sweep, tinyBase)
-	b := expandReal(t, sweep, strings.Replace(tinyBase, "n: 16", "n: 24", 1))
+	b := expandReal(t, sweep, strings.Replace(tinyBase, "n: 32", "n: 40", 1))
 	if a.Points[0].ID != b.Points[0].ID {
 		t.Fatalf("identifiers differ: %s, %s", a.Points[0].ID, b.Points[0].ID)
 	}
@@ -299,8 +299,8 @@ func TestTwoScansConcurrently(t *testing.T) {
 			nx, _ := c.Grid.Size()
 			gd, _ := c.Value("inclusions.dipole")
 			wd, _ := want.Value("inclusions.dipole")
-			if nx != 16+8*i || gd != wd {
-				t.Errorf("scan %d point %s ran with grid %d and dipole %s, want %d and %s", i, p.ID, nx, gd, 16+8*i, wd)
+			if nx != 32+8*i || gd != wd {
+				t.Errorf("scan %d point %s ran with grid %d and dipole %s, want %d and %s", i, p.ID, nx, gd, 32+8*i, wd)
 			}
 		}
 		var err error

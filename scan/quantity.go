@@ -1,6 +1,7 @@
 package scan
 
 import (
+	"errors"
 	"fmt"
 	"strconv"
 	"strings"
@@ -65,11 +66,25 @@ func dimText(d config.Dim) string {
 // package's validator, exactly as "memix run" will: every problem at once,
 // each a *config.FieldError naming key, value, unit and valid range (or a
 // *config.FileError when the text is not YAML). The MEMIX_* environment
-// overrides apply, as they do to the runs. It is the validator that the
+// overrides apply, as they do to the runs, and so do the run-only checks
+// (nothing to simulate, a grid that does not resolve the interface or the
+// fastest-growing wavelength). It is the validator that the
 // memix command passes to [Expand].
 func ValidateConfig(pointYAML []byte) error {
-	_, err := config.Parse(pointYAML, "point configuration")
-	return err
+	c, err := config.Parse(pointYAML, "point configuration")
+	if err != nil {
+		return err
+	}
+	// What memix run refuses although the file is valid (nothing to
+	// simulate, an unresolved grid): better found before anything runs.
+	var errs []error
+	for _, p := range c.RunProblems() {
+		errs = append(errs, p)
+	}
+	for _, p := range c.ResolutionWarnings() {
+		errs = append(errs, p)
+	}
+	return errors.Join(errs...)
 }
 
 // splitQuantity splits "50 nm" (or "50nm", or "50") into its number and its

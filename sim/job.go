@@ -44,6 +44,11 @@ type JobOptions struct {
 	// Set overrides configuration keys ("key=value"). On Resume only the
 	// keys of the time and output sections may change.
 	Set []string
+	// ForceResolution lets Start run a configuration whose grid does not
+	// resolve the interface or the fastest-growing wavelength
+	// (config.ResolutionWarnings); without it Start refuses with those
+	// problems, as configuration errors.
+	ForceResolution bool
 }
 
 // ErrOutputExists is returned by Start for an existing, non-empty output
@@ -54,12 +59,28 @@ var ErrOutputExists = errors.New("output directory exists")
 // dir must not exist or be empty, unless o.Force is set, which replaces it.
 // The returned summary is also written to dir/summary.json; on an
 // interrupted run the error is ErrInterrupted and the summary says so.
+//
+// Everything that can fail before the first step (the configuration, the
+// resolution check, the model, the initial state, an initial.file) is
+// done before dir is created or replaced: when Start fails there, dir is
+// left as it was (absent, empty, or the run that --force would replace).
+// Errors from bad input are configuration errors (config.IsConfigError).
 func Start(ctx context.Context, c config.Config, dir string, o JobOptions) (*Summary, error) {
 	c, err := applySet(c, o.Set, false)
 	if err != nil {
 		return nil, err
 	}
-	if err := prepareDir(dir, o.Force); err != nil {
+	var errs []error
+	for _, p := range c.RunProblems() {
+		errs = append(errs, p)
+	}
+	if !o.ForceResolution {
+		errs = append(errs, resolutionErrors(c)...)
+	}
+	if err := errors.Join(errs...); err != nil {
+		return nil, err
+	}
+	if err := checkDir(dir, o.Force); err != nil {
 		return nil, err
 	}
 	j, err := newJob(c, dir, o)
@@ -67,16 +88,35 @@ func Start(ctx context.Context, c config.Config, dir string, o JobOptions) (*Sum
 		return nil, err
 	}
 	defer j.close()
-	if err := j.writeResolved(); err != nil {
+	if err := j.initialState(); err != nil {
 		return nil, err
 	}
-	if err := j.initialState(); err != nil {
+	if err := prepareDir(dir, o.Force); err != nil {
+		return nil, err
+	}
+	if err := j.writeResolved(); err != nil {
 		return nil, err
 	}
 	if err := j.openOutputs(false, 0); err != nil {
 		return nil, err
 	}
 	return j.run(ctx, false)
+}
+
+// ForceResolutionFlag is the memix run flag that sets
+// JobOptions.ForceResolution; messages name it.
+const ForceResolutionFlag = "--force-resolution"
+
+// resolutionErrors returns the resolution problems of c, each with a note
+// that the flag overrides it.
+func resolutionErrors(c config.Config) []error {
+	var errs []error
+	for _, p := range c.ResolutionWarnings() {
+		q := *p
+		q.Err = fmt.Errorf("%w; results on this grid are unreliable (run anyway with %s)", p.Err, ForceResolutionFlag)
+		errs = append(errs, &q)
+	}
+	return errs
 }
 
 // Resume continues the run in dir from its checkpoint, with the
@@ -86,9 +126,15 @@ func Start(ctx context.Context, c config.Config, dir string, o JobOptions) (*Sum
 func Resume(ctx context.Context, dir string, o JobOptions) (*Summary, error) {
 	for _, kv := range os.Environ() {
 		if strings.HasPrefix(kv, "MEMIX_") {
-			name, _, _ := strings.Cut(kv, "=")
-			return nil, fmt.Errorf("resume %s: environment variable %s would change the recorded configuration; unset it (use --set for time.* and output.* keys)", dir, name)
+			name, val, _ := strings.Cut(kv, "=")
+			return nil, &config.FieldError{Key: name, Value: val, Err: fmt.Errorf("%w: resuming %s, this environment variable would change the recorded configuration; unset it (use --set for time.* and output.* keys)", config.ErrConflict, dir)}
 		}
+	}
+	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
+		if err == nil {
+			err = errors.New("not a directory")
+		}
+		return nil, fmt.Errorf("resume %s: %w", dir, err)
 	}
 	c, err := config.Load(filepath.Join(dir, ResolvedFile))
 	if err != nil {
@@ -131,21 +177,32 @@ func applySet(c config.Config, set []string, resume bool) (config.Config, error)
 		key, val, ok := strings.Cut(p, "=")
 		key = strings.TrimSpace(key)
 		if !ok || key == "" {
-			return c, fmt.Errorf("--set %q: want key=value, e.g. time.dt_max=1e-6", p)
+			return c, &config.FieldError{Key: p, Err: fmt.Errorf("%w: --set wants key=value, e.g. time.dt_max=1e-6", config.ErrSyntax)}
 		}
 		if resume && !strings.HasPrefix(key, "time.") && !strings.HasPrefix(key, "output.") {
-			return c, fmt.Errorf("--set %s: a resumed run may change only time.* and output.* keys (the state was computed with the recorded physics)", key)
+			return c, &config.FieldError{Key: key, Value: strings.TrimSpace(val), Range: "time.* and output.* keys only on --resume",
+				Err: fmt.Errorf("%w: --set on a resumed run may change only time.* and output.* keys (the state was computed with the recorded physics)", config.ErrConflict)}
 		}
 		kv = append(kv, [2]string{key, strings.TrimSpace(val)})
 	}
 	return c.SetAll(kv)
 }
 
-// prepareDir makes sure dir exists and is empty.
-func prepareDir(dir string, force bool) error {
-	entries, err := os.ReadDir(dir)
+// checkDir reports whether dir can take a new run (see prepareDir)
+// without changing anything: it does not exist, is empty, or force is set
+// and it holds a memix run.
+func checkDir(dir string, force bool) error {
+	st, err := os.Stat(dir)
 	switch {
 	case errors.Is(err, os.ErrNotExist):
+		return nil
+	case err != nil:
+		return fmt.Errorf("output directory %s: %w", dir, err)
+	case !st.IsDir():
+		return fmt.Errorf("output directory %s: %w: it is a file", dir, ErrOutputExists)
+	}
+	entries, err := os.ReadDir(dir)
+	switch {
 	case err != nil:
 		return fmt.Errorf("output directory %s: %w", dir, err)
 	case len(entries) > 0 && !force:
@@ -155,6 +212,18 @@ func prepareDir(dir string, force bool) error {
 			// Refuse to wipe a directory that is not a memix run.
 			return fmt.Errorf("output directory %s is not empty and holds no %s: not replacing a directory memix did not write", dir, ResolvedFile)
 		}
+	}
+	return nil
+}
+
+// prepareDir makes sure dir exists and is empty: it must not exist or be
+// empty, or, with force, hold a memix run (which is removed).
+func prepareDir(dir string, force bool) error {
+	if err := checkDir(dir, force); err != nil {
+		return err
+	}
+	entries, _ := os.ReadDir(dir)
+	if len(entries) > 0 {
 		if err := os.RemoveAll(dir); err != nil {
 			return fmt.Errorf("replacing %s: %w", dir, err)
 		}
@@ -197,17 +266,26 @@ type job struct {
 	flowRow, flowRun flowWork
 	diffHow          [2]string
 	started          time.Time
+
+	ckStep int            // step of the checkpoint on disk, −1 if none
+	ckTime float64        // its reduced time
+	prev   [][]complex128 // the spectral state before the step in progress, to locate a blow-up
+	scr    []float64      // real-space scratch
 }
 
 func newJob(c config.Config, dir string, o JobOptions) (*job, error) {
-	if c.Inclusions.Model == "none" && c.Lipids.Model == "none" {
-		return nil, fmt.Errorf("inclusions.model and lipids.model are both none: there is nothing to simulate")
+	if ps := c.RunProblems(); len(ps) > 0 {
+		errs := make([]error, len(ps))
+		for i, p := range ps {
+			errs[i] = p
+		}
+		return nil, errors.Join(errs...)
 	}
 	red, err := config.Reduce(c)
 	if err != nil {
 		return nil, err
 	}
-	j := &job{cfg: c, red: red, dir: dir, opt: o, lastRow: -1, lastSnap: -1, iPhi: -1, iQ11: -1}
+	j := &job{cfg: c, red: red, dir: dir, opt: o, lastRow: -1, lastSnap: -1, iPhi: -1, iQ11: -1, ckStep: -1}
 	if j.params, j.diffHow, err = runParams(c, red); err != nil {
 		return nil, err
 	}
@@ -235,6 +313,11 @@ func newJob(c config.Config, dir string, o JobOptions) (*job, error) {
 	}
 	j.stepper = fields.NewStepper(j.model)
 	j.last.Dt = j.params.Stepping.DtMax
+	j.prev = make([][]complex128, len(j.model.FieldNames()))
+	for f := range j.prev {
+		j.prev[f] = red.Grid.NewSpectral()
+	}
+	j.scr = red.Grid.NewReal()
 	j.iPhi = j.model.FieldIndex("phi")
 	if j.iPhi >= 0 {
 		lx, _ := c.Grid.Lengths()
@@ -383,7 +466,9 @@ func (j *job) initialState() error {
 		case "mode":
 			err = m.SetLipidUniform(in.Mean)
 		case "file":
-			err = j.lipidsFromFile(in.File.V, in.FileSnapshot)
+			if err := j.lipidsFromFile(in.File.V, in.FileSnapshot); err != nil {
+				return &config.FieldError{Key: "initial.file", Value: in.File.V, Err: fmt.Errorf("%w: %w", config.ErrFile, err)}
+			}
 		}
 		if err != nil {
 			return fmt.Errorf("initial.lipids = %s: %w", in.Lipids, err)
@@ -397,7 +482,9 @@ func (j *job) initialState() error {
 	return nil
 }
 
-// lipidsFromFile sets φ from the field phi of a memix HDF5 file.
+// lipidsFromFile sets φ from the field phi of a memix HDF5 file: a
+// snapshot of a snapshot file or index, or the exact spectral φ of a
+// checkpoint.
 func (j *job) lipidsFromFile(path string, snap int) error {
 	f, err := outputs.Open(path)
 	if err != nil {
@@ -406,6 +493,18 @@ func (j *job) lipidsFromFile(path string, snap int) error {
 	defer f.Close()
 	if err := f.CheckGrid(j.red.Grid); err != nil {
 		return err
+	}
+	if f.Kind() == outputs.KindCheckpoint {
+		ck, err := outputs.ReadCheckpoint(path, j.red.Grid, outputs.Expect{Spectral: []string{"phi"}})
+		if err != nil {
+			return err
+		}
+		data := ck.SpectralByName("phi").Data
+		if !finite(data) {
+			return fmt.Errorf("%s: the field phi of the checkpoint is not finite", path)
+		}
+		j.model.SetSpectral(j.iPhi, data)
+		return nil
 	}
 	n := len(f.Snapshots())
 	if n == 0 {
@@ -577,7 +676,11 @@ func (j *job) writeCheckpoint() error {
 			outputs.SpectralField{Name: "flow_guess_ux", Unit: fields.UnitVelocity, Data: ux},
 			outputs.SpectralField{Name: "flow_guess_uy", Unit: fields.UnitVelocity, Data: uy})
 	}
-	return outputs.WriteCheckpoint(filepath.Join(j.dir, CheckpointFile), j.red.Grid, ck)
+	if err := outputs.WriteCheckpoint(filepath.Join(j.dir, CheckpointFile), j.red.Grid, ck); err != nil {
+		return err
+	}
+	j.ckStep, j.ckTime = j.model.Steps(), j.model.Time()
+	return nil
 }
 
 // readCheckpoint restores the state and returns its step.
@@ -588,6 +691,18 @@ func (j *job) readCheckpoint() (int64, error) {
 	if err != nil {
 		return 0, fmt.Errorf("resume %s: %w", j.dir, err)
 	}
+	path := filepath.Join(j.dir, CheckpointFile)
+	if bad := math.IsNaN(ck.Time) || math.IsInf(ck.Time, 0) || ck.Time < 0 || ck.Step < 0 || !(ck.Dt > 0) || math.IsInf(ck.Dt, 0); bad {
+		return 0, fmt.Errorf("resume %s: %s: damaged clock (t = %g, step %d, dt = %g)", j.dir, path, ck.Time, ck.Step, ck.Dt)
+	}
+	for _, name := range names {
+		for i, v := range ck.SpectralByName(name).Data {
+			if re, im := real(v), imag(v); math.IsNaN(re) || math.IsInf(re, 0) || math.IsNaN(im) || math.IsInf(im, 0) {
+				return 0, fmt.Errorf("resume %s: %s: field %s holds a non-finite coefficient (index %d) at step %d: the checkpoint is not a good state to continue from",
+					j.dir, path, name, i, ck.Step)
+			}
+		}
+	}
 	for f, name := range names {
 		j.model.SetSpectral(f, ck.SpectralByName(name).Data)
 	}
@@ -597,9 +712,10 @@ func (j *job) readCheckpoint() (int64, error) {
 		j.model.SetFlowGuess(gx.Data, gy.Data)
 	}
 	j.model.SetClock(ck.Time, int(ck.Step))
-	j.stepper.SetLevel(int(ck.ScalarByName("level").Value))
+	j.stepper.SetLevel(j.resumeLevel(int(ck.ScalarByName("level").Value), ck.Dt))
 	j.ffts = int64(ck.ScalarByName("ffts").Value)
 	j.last.Dt = ck.Dt
+	j.ckStep, j.ckTime = int(ck.Step), ck.Time
 	return ck.Step, nil
 }
 
@@ -623,19 +739,68 @@ func (w flowWork) mean() float64 {
 	return float64(w.iterations) / float64(w.solves)
 }
 
+// resumeLevel returns the ladder level to continue from: the recorded one
+// when it still gives the recorded step (the same time.dt_max and
+// time.dt_min: bit for bit), else the largest step of the new ladder not
+// above the recorded step (--set changed the ladder).
+func (j *job) resumeLevel(level int, dt float64) int {
+	n := j.stepper.Levels()
+	if level >= 0 && level < n && j.stepper.LevelDt(level) == dt {
+		return level
+	}
+	for l := 0; l < n; l++ {
+		if j.stepper.LevelDt(l) <= dt*(1+1e-12) {
+			return l
+		}
+	}
+	return n - 1
+}
+
 // system adapts the model and stepper to the run loop.
 type system struct{ j *job }
 
+// Step takes one step and checks that the new state is finite: a state
+// that overflowed during the step must fail this step, not the next one,
+// so that it is never observed, snapshotted or checkpointed.
 func (s system) Step() error {
-	info, err := s.j.stepper.Step()
+	j := s.j
+	m := j.model
+	for f := range j.prev {
+		copy(j.prev[f], m.Spectral(f))
+	}
+	t0, s0, l0 := m.Time(), m.Steps(), j.stepper.Level()
+	info, err := j.stepper.Step()
 	if err != nil {
 		return err
 	}
-	s.j.last = info
-	s.j.ffts += int64(info.FFTs)
-	s.j.flowRow.add(info)
-	s.j.flowRun.add(info)
+	for f := range j.prev {
+		if !finite(m.Spectral(f)) {
+			// Put the state back as it was before the step (the stepper's
+			// contract on error) and say where the field was largest.
+			e := j.blowUp(f, info.Dt)
+			for g := range j.prev {
+				m.SetSpectral(g, j.prev[g])
+			}
+			m.SetClock(t0, s0)
+			j.stepper.SetLevel(l0)
+			return e
+		}
+	}
+	j.last = info
+	j.ffts += int64(info.FFTs)
+	j.flowRow.add(info)
+	j.flowRun.add(info)
 	return nil
+}
+
+// finite reports whether every value of s is finite: v − v is NaN exactly
+// for NaN and ±Inf, and a NaN propagates through the sum.
+func finite(s []complex128) bool {
+	var a float64
+	for _, v := range s {
+		a += (real(v) - real(v)) + (imag(v) - imag(v))
+	}
+	return a == a
 }
 func (s system) Time() float64 { return s.j.model.Time() }
 func (s system) Steps() int    { return s.j.model.Steps() }
@@ -684,6 +849,7 @@ func (j *job) run(ctx context.Context, resumed bool) (*Summary, error) {
 		},
 		Checkpoint:         j.writeCheckpoint,
 		CheckpointSchedule: Schedule{EveryWall: time.Duration(float64(out.CheckpointWall) * float64(time.Second))},
+		CheckpointAtStart:  true,
 		Progress:           j.progress(),
 	}
 	if out.Snapshots > 0 {
@@ -695,18 +861,15 @@ func (j *job) run(ctx context.Context, resumed bool) (*Summary, error) {
 		}), Schedule: Schedule{EveryTime: j.endTime / float64(out.Snapshots)}, AtStart: true})
 	}
 	res, runErr := Run(ctx, system{j}, opts)
-	sum := j.summarise(res, runErr)
-	switch res.Reason {
-	case Failed:
-		j.logf("run failed: %v", runErr)
-		if res.LastGood >= 0 || fileExists(filepath.Join(j.dir, CheckpointFile)) {
-			j.logf("the last good checkpoint is kept; continue with a smaller step: memix run --resume %s --set time.dt_max=<smaller>", j.dir)
-		}
-	case Interrupted:
+	if runErr != nil && !errors.Is(runErr, ErrInterrupted) {
+		runErr = j.explain(runErr)
+		fmt.Fprintf(j.log, "run failed at %v\n", runErr) // the caller reports the error itself
+	} else if res.Reason == Interrupted {
 		j.logf("interrupted at step %d (t = %s); checkpoint written; continue with: memix run --resume %s",
 			j.model.Steps(), config.Time(j.model.Time()*float64(u.Time)), j.dir)
 	}
-	if res.Reason != Failed && c.Output.Figures {
+	sum := j.summarise(res, runErr)
+	if c.Output.Figures && (runErr == nil || errors.Is(runErr, ErrInterrupted)) {
 		if err := j.figures(); err != nil {
 			runErr = errors.Join(runErr, err)
 			sum.Error = joinMsg(sum.Error, err.Error())
@@ -728,8 +891,6 @@ func joinMsg(a, b string) string {
 	}
 	return a + "; " + b
 }
-
-func fileExists(p string) bool { _, err := os.Stat(p); return err == nil }
 
 // progress returns the progress display: plain lines into run.log, and a
 // bar (terminal) or lines on Stderr unless quiet.

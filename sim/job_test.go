@@ -320,7 +320,7 @@ func TestOutputReferenceCoversSeries(t *testing.T) {
 // the solver tolerance, and resumes bit for bit (the checkpoint holds the
 // solver's warm start).
 func TestVariableViscosityRun(t *testing.T) {
-	set := []string{"lipids.model=phase", "lipids.interface=60 nm", "initial.lipids=disks", "initial.disks=3",
+	set := []string{"grid.n=64", "lipids.model=phase", "lipids.interface=120 nm", "initial.lipids=disks", "initial.disks=3",
 		"initial.disk_radius=0.8 um", "membrane.viscosity_rule=log-linear", "membrane.viscosity_plus=1e-8 Pa*s*m",
 		"time.end=4 ms"}
 	c := parse(t, smallRun, set...)

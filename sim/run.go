@@ -103,6 +103,10 @@ type Options struct {
 	// finished or interrupted run, and never after a failed step.
 	Checkpoint         func() error
 	CheckpointSchedule Schedule
+	// CheckpointAtStart also checkpoints the initial state, after the
+	// AtStart observers (not when Resumed), so that a run failing before
+	// its first scheduled checkpoint can still be resumed.
+	CheckpointAtStart bool
 
 	// Progress receives progress updates; nil disables them.
 	Progress Progress
@@ -187,6 +191,20 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 		}
 		return errors.Join(errs...)
 	}
+	// fail ends a run whose step, observer or checkpoint failed: the
+	// observers get a Final, Failed event (to close their files) and the
+	// state is not checkpointed.
+	fail := func(err error) (Result, error) {
+		res.Reason = Failed
+		res.Time, res.Wall = sys.Time(), time.Since(start)
+		if res.Steps == 0 {
+			res.MinDt, res.MaxDt = 0, 0
+		}
+		if opt.Progress != nil {
+			opt.Progress.Stop()
+		}
+		return res, errors.Join(err, finish(true))
+	}
 	done := func() bool {
 		return (opt.EndTime > 0 && sys.Time() >= opt.EndTime*(1-1e-12)) ||
 			(opt.MaxSteps > 0 && sys.Steps() >= opt.MaxSteps)
@@ -194,8 +212,13 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 	for _, o := range opt.Observers {
 		if o.AtStart && !opt.Resumed {
 			if err := o.Observer.Observe(event(false, false)); err != nil {
-				return res, fmt.Errorf("%s: %w", o.Name, err)
+				return fail(fmt.Errorf("%s: %w", o.Name, err))
 			}
+		}
+	}
+	if opt.CheckpointAtStart && !opt.Resumed {
+		if err := checkpoint(); err != nil {
+			return fail(err)
 		}
 	}
 	if opt.Progress != nil {
@@ -208,16 +231,7 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 		}
 		t0, dt0, s0 := sys.Time(), sys.Dt(), sys.Steps()
 		if err := sys.Step(); err != nil {
-			res.Reason = Failed
-			res.Time, res.Wall = sys.Time(), time.Since(start)
-			if res.Steps == 0 {
-				res.MinDt, res.MaxDt = 0, 0
-			}
-			if opt.Progress != nil {
-				opt.Progress.Stop()
-			}
-			serr := &StepError{Step: sys.Steps() + 1, Time: t0, Dt: dt0, Err: err}
-			return res, errors.Join(serr, finish(true))
+			return fail(&StepError{Step: sys.Steps() + 1, Time: t0, Dt: dt0, Err: err})
 		}
 		res.Steps++
 		dt := sys.Dt()
@@ -227,19 +241,13 @@ func Run(ctx context.Context, sys System, opt Options) (Result, error) {
 		for i, o := range opt.Observers {
 			if o.Schedule.due(s0, s1, t0, t1, &walls[i], now) {
 				if err := o.Observer.Observe(event(false, false)); err != nil {
-					if opt.Progress != nil {
-						opt.Progress.Stop()
-					}
-					return res, fmt.Errorf("%s at step %d: %w", o.Name, sys.Steps(), err)
+					return fail(fmt.Errorf("%s at step %d: %w", o.Name, sys.Steps(), err))
 				}
 			}
 		}
 		if opt.Checkpoint != nil && opt.CheckpointSchedule.due(s0, s1, t0, t1, &ckWall, now) {
 			if err := checkpoint(); err != nil {
-				if opt.Progress != nil {
-					opt.Progress.Stop()
-				}
-				return res, err
+				return fail(err)
 			}
 		}
 		if opt.Progress != nil {

@@ -1,6 +1,8 @@
 package sim
 
 import (
+	"encoding/json"
+	"errors"
 	"fmt"
 	"math"
 	"path/filepath"
@@ -106,6 +108,19 @@ type NormSummary struct {
 	ThresholdTimeS *float64 `json:"threshold_time_s"`
 }
 
+// MarshalJSON writes Initial, Final and Ratio as null when they are not
+// finite (a diverging run's norms can overflow), which JSON cannot hold:
+// otherwise summary.json of such a run could not be written at all.
+func (n NormSummary) MarshalJSON() ([]byte, error) {
+	type plain NormSummary // without this method
+	return json.Marshal(struct {
+		Initial *float64 `json:"initial"`
+		Final   *float64 `json:"final"`
+		Ratio   *float64 `json:"ratio"`
+		plain
+	}{finitePtr(n.Initial), finitePtr(n.Final), finitePtr(n.Ratio), plain(n)})
+}
+
 func ptr[T any](v T) *T { return &v }
 
 // finitePtr returns nil for NaN and infinities, which JSON cannot hold.
@@ -129,7 +144,7 @@ func (j *job) summarise(res Result, runErr error) *Summary {
 		TimeS:         j.model.Time() * float64(u.Time),
 		EndTimeS:      float64(j.cfg.EndTime()),
 	}
-	if runErr != nil && res.Reason != Interrupted {
+	if runErr != nil && !errors.Is(runErr, ErrInterrupted) {
 		s.Status = string(Failed)
 		s.Error = runErr.Error()
 	}
@@ -137,8 +152,8 @@ func (j *job) summarise(res Result, runErr error) *Summary {
 		s.DtMinS, s.DtMaxS = ptr(res.MinDt*float64(u.Time)), ptr(res.MaxDt*float64(u.Time))
 		s.FFTsPerStep = ptr(float64(j.ffts) / float64(j.model.Steps()))
 	}
-	if res.LastGood >= 0 {
-		s.LastCheckpointStep = ptr(res.LastGood)
+	if j.ckStep >= 0 {
+		s.LastCheckpointStep = ptr(j.ckStep)
 	}
 	s.Units.LengthM, s.Units.TimeS = float64(u.Length), float64(u.Time)
 	s.SaffmanDelbruckM = finitePtr(j.red.MembraneSI.SaffmanDelbruck())
@@ -207,7 +222,7 @@ func (j *job) seriesSummary(s *Summary) {
 	if i, ok := col["domain_length"]; ok {
 		l := float64(j.red.Units.Length)
 		s.DomainLengthM = &struct{ Initial, Final float64 }{rows[0][i] * l, last[i] * l}
-		if math.IsInf(s.DomainLengthM.Initial, 0) || math.IsInf(s.DomainLengthM.Final, 0) {
+		if finitePtr(s.DomainLengthM.Initial) == nil || finitePtr(s.DomainLengthM.Final) == nil {
 			s.DomainLengthM = nil
 		}
 	}

@@ -23,11 +23,15 @@ every key. On success it prints the lengths the membrane hydrodynamics sets (Saf
 wall and friction screening), the reduced units, and advice on whether the grid resolves
 those lengths and the box holds them. With active inclusions or phase-separating lipids it also
 predicts the instability of the uniform state (as memix stability does): the fastest-growing
-wavelength, whether the grid puts at least 4 points on it (a warning otherwise) and whether
-the box holds an unstable mode; with a composition-dependent membrane viscosity, the
-viscosity contrast. On failure it lists every problem, each with its key,
-value, unit and valid range, and exits with status 2. The lengths and rates are model
-predictions.`,
+wavelength, the grid points on it and whether the box holds an unstable mode; with a
+composition-dependent membrane viscosity, the viscosity contrast. On failure it lists every
+problem, each with its key, value, unit and valid range, and exits with status 2. The lengths
+and rates are model predictions.
+
+Problems that stop memix run but not the other commands are listed as warnings (exit
+status 0): nothing to simulate, inclusion diffusivities that cannot be derived, and a
+grid that does not resolve the lipid interface or the fastest-growing wavelength (which
+memix run --force-resolution accepts).`,
 		Example: "  memix check examples/glass-gap.yaml\n  memix check --json run.yaml\n  memix check --resolved run.yaml > config.resolved.yaml",
 		Args:    cobra.ExactArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
@@ -153,6 +157,13 @@ func checkDoc(path string, c config.Config, r *config.Reduced) report.Doc {
 	}
 	more, instability := checkInstability(c)
 	advice.Rows = append(advice.Rows, more...)
+	// What stops memix run although the configuration is valid.
+	for _, p := range c.RunProblems() {
+		advice.Rows = append(advice.Rows, []any{config.Warn.String(), "memix run refuses this: " + p.Error()})
+	}
+	for _, p := range c.ResolutionWarnings() {
+		advice.Rows = append(advice.Rows, []any{config.Warn.String(), "memix run refuses this unless --force-resolution: " + p.Error()})
+	}
 
 	nx, ny := c.Grid.Size()
 	return report.Doc{

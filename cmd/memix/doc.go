@@ -5,7 +5,7 @@
 //
 // Usage:
 //
-//	memix run CONFIG [-o OUTDIR] [--force] [--quiet] [--threads N] [--set key=value]...
+//	memix run CONFIG [-o OUTDIR] [--force] [--force-resolution] [--quiet] [--threads N] [--set key=value]...
 //	memix run --resume OUTDIR [--set time.key=value]...
 //	memix check CONFIG [--json|--csv] [--resolved]
 //	memix mobility CONFIG [--radius 2nm] [--method auto|numerical|…] [--json|--csv]
@@ -30,11 +30,16 @@
 // # Exit codes
 //
 //	0  success
-//	1  failure: the command ran and could not complete (an I/O error, a
-//	   numerical failure, a failed point of a scan)
+//	1  failure: the command ran and could not complete (an I/O error such
+//	   as a full disk, a numerical failure, an output directory that
+//	   exists, a damaged checkpoint, a failed point of a scan); memix run
+//	   names what was kept and prints the command that continues the run
 //	2  usage or configuration error: an unknown command or flag, a wrong
-//	   number of arguments, or a configuration file that is missing,
-//	   unreadable or invalid (every problem is listed on stderr)
+//	   number of arguments, a configuration file that is missing,
+//	   unreadable or invalid, an invalid --set or MEMIX_* value, or for
+//	   memix run an unusable initial.file, nothing to simulate or a grid
+//	   that does not resolve the run (without --force-resolution); every
+//	   problem is listed on stderr under its key and nothing is written
 //	3  interrupted: memix run (or memix scan) received SIGINT or SIGTERM,
 //	   finished its step and wrote a checkpoint; memix run --resume
 //	   continues it

@@ -6,47 +6,18 @@ import (
 	"encoding/json"
 	"fmt"
 	"os"
-	"os/exec"
 	"path/filepath"
-	"runtime"
 	"strconv"
 	"strings"
 	"testing"
 )
 
-// memixBin is this command built with go build by TestMain, for the scans
-// that run real points (in-process, os.Executable is the test binary,
-// which cannot run them); memixBuildErr says why it is missing.
-var (
-	memixBin      string
-	memixBuildErr error
-)
-
-func TestMain(m *testing.M) {
-	dir, err := os.MkdirTemp("", "memix-cmd-test-")
-	if err != nil {
-		fmt.Fprintln(os.Stderr, err)
-		os.Exit(1)
-	}
-	goTool, err := exec.LookPath("go")
-	if err != nil {
-		goTool = filepath.Join(runtime.GOROOT(), "bin", "go")
-	}
-	memixBin = filepath.Join(dir, "memix")
-	if out, err := exec.Command(goTool, "build", "-o", memixBin, ".").CombinedOutput(); err != nil {
-		memixBuildErr = fmt.Errorf("go build: %v\n%s", err, out)
-	}
-	code := m.Run()
-	os.RemoveAll(dir)
-	os.Exit(code)
-}
-
+// builtMemix returns this command built with go build (see memixBinary),
+// for the scans that run real points: in-process, os.Executable is the
+// test binary, which cannot run them.
 func builtMemix(t *testing.T) string {
 	t.Helper()
-	if memixBuildErr != nil {
-		t.Fatal(memixBuildErr)
-	}
-	return memixBin
+	return memixBinary(t)
 }
 
 const quickSweep = "../../examples/sweeps/quick.yaml"
@@ -312,7 +283,7 @@ func TestScanFailureAndInterruption(t *testing.T) {
 	sweep := filepath.Join(dir, "sweep.yaml")
 	missing := filepath.Join(dir, "missing.h5")
 	text := fmt.Sprintf(`base:
-  grid: {n: 16, box: 5 um}
+  grid: {n: 32, box: 5 um}
   lipids: {model: passive}
   time: {end: 20 ms}
   output: {snapshots: 0, rows: 10, figures: false}
@@ -330,7 +301,7 @@ axes:
 		t.Errorf("exit %d, want 1\n%s\n%s", code, out, errs)
 	}
 	out, _, _ = memix(t, "scan", "status", scanDir)
-	if !strings.Contains(out, "finished:     1") || !strings.Contains(out, "failed:       1") || !strings.Contains(out, "exit status 1") {
+	if !strings.Contains(out, "finished:     1") || !strings.Contains(out, "failed:       1") || !strings.Contains(out, "exit status 2") {
 		t.Errorf("status:\n%s", out)
 	}
 

@@ -9,6 +9,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"github.com/memix-sim/memix/cmd/memix/internal/report"
+	"github.com/memix-sim/memix/config"
 	"github.com/memix-sim/memix/sim"
 )
 
@@ -22,6 +23,7 @@ func newRunCmd(e *env) *cobra.Command {
 		quiet   bool
 		threads int
 		set     []string
+		coarse  bool
 	)
 	c := &cobra.Command{
 		Use:   "run CONFIG [-o OUTDIR] | run --resume OUTDIR",
@@ -33,15 +35,24 @@ summary.json, figures/ and run.log (see docs/outputs.md).
 SIGINT or SIGTERM finish the current step, write a checkpoint and the outputs
 so far, and exit with status 3; --resume OUTDIR continues bit for bit. A run
 whose fields stop being finite, or whose step falls below time.dt_min, stops
-with status 1 and keeps its last good checkpoint. An existing OUTDIR is never
-replaced without --force.`,
+with status 1, keeps its last good checkpoint and prints the command that
+continues it with a smaller step; so does a run whose outputs cannot be
+written (a full disk), once space is freed. An existing OUTDIR is never
+replaced without --force, and nothing is written to OUTDIR before the
+initial state is built: a run that cannot start leaves OUTDIR as it was.
+
+A configuration whose grid does not resolve the lipid interface (fewer than
+2 points across ε√2) or the fastest-growing wavelength of the linear
+instability (fewer than 4 points per wavelength) is refused with exit status
+2, like any configuration error; --force-resolution runs it anyway (for a
+quick look or a convergence study).`,
 		Args: func(cmd *cobra.Command, args []string) error {
 			if resume != "" {
 				if len(args) != 0 {
 					return usageError{errors.New("run --resume OUTDIR takes no CONFIG (the recorded config.resolved.yaml is used)")}
 				}
-				if out != "" || force {
-					return usageError{errors.New("run --resume cannot be combined with -o or --force")}
+				if out != "" || force || coarse {
+					return usageError{errors.New("run --resume cannot be combined with -o, --force or --force-resolution")}
 				}
 				return nil
 			}
@@ -53,7 +64,7 @@ replaced without --force.`,
 		RunE: func(cmd *cobra.Command, args []string) error {
 			opt := sim.JobOptions{
 				Version: "memix " + version, Threads: threads, Force: force, Quiet: quiet,
-				Stderr: e.stderr, Set: set,
+				Stderr: e.stderr, Set: set, ForceResolution: coarse,
 			}
 			var (
 				sum *sim.Summary
@@ -76,6 +87,16 @@ replaced without --force.`,
 			if sum != nil && !quiet {
 				printRunSummary(e, dir, sum)
 			}
+			if len(config.Problems(err)) > 0 {
+				src := filepath.Join(dir, sim.ResolvedFile)
+				if resume == "" {
+					src = args[0]
+				}
+				if len(set) > 0 {
+					src += " with --set"
+				}
+				return configError{src, err}
+			}
 			return err
 		},
 	}
@@ -83,6 +104,7 @@ replaced without --force.`,
 	f.StringVarP(&out, "output", "o", "", "output directory (default: CONFIG's name with -out)")
 	f.StringVar(&resume, "resume", "", "continue the run in `OUTDIR` from its checkpoint")
 	f.BoolVar(&force, "force", false, "replace an existing output directory")
+	f.BoolVar(&coarse, "force-resolution", false, "run even if the grid does not resolve the lipid interface or the fastest-growing wavelength")
 	f.BoolVar(&quiet, "quiet", false, "no progress or summary on the terminal (run.log still records it)")
 	f.IntVar(&threads, "threads", 0, "FFT threads (default: grid.threads)")
 	f.StringArrayVar(&set, "set", nil, "override a configuration key, `key=value` (repeatable; with --resume only time.* and output.*)")

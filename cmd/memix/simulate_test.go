@@ -10,7 +10,7 @@ import (
 )
 
 const tinyRun = `
-grid: {n: 16, box: 5 um}
+grid: {n: 20, box: 5 um} # 16 would not resolve the fastest-growing wavelength (1.15 µm)
 inclusions: {dipole: 10 kT, density: 50 um^-2, rot_diffusion: 20 /s}
 lipids: {model: passive}
 time: {end: 1 ms}
