@@ -60,7 +60,7 @@ type OutputSection struct {
 
 // InitialSection is the key group "initial".
 type InitialSection struct {
-	Inclusions   string           `key:"inclusions" default:"isotropic" enum:"isotropic|aligned|mode" doc:"Initial inclusions: isotropic (uniform density, no order, plus a random perturbation of initial.amplitude), aligned (uniform order initial.order along initial.angle), mode (isotropic plus one Fourier mode, see initial.mode_*)."`
+	Inclusions   string           `key:"inclusions" default:"isotropic" enum:"isotropic|aligned|mode|file" doc:"Initial inclusions: isotropic (uniform density, no order, plus a random perturbation of initial.amplitude), aligned (uniform order initial.order along initial.angle), mode (isotropic plus one Fourier mode, see initial.mode_*), file (the inclusion fields of a memix HDF5 file: from a checkpoint every evolved field exactly; from a snapshot c and whichever of the run's fields it holds, Q11 and Q12 standing in for a2 and b2 of the kinetic model, the others zero)."`
 	Lipids       string           `key:"lipids" default:"stripes" enum:"uniform|stripes|halves|disks|random|mode|file" doc:"Initial composition: uniform (initial.mean), stripes (initial.stripes pairs of bands across initial.direction), halves (two bands), disks (initial.disks round domains of φ = +1 in φ = −1), random (initial.mean plus noise of initial.amplitude), mode (initial.mean plus one Fourier mode), file (the field phi of a memix HDF5 file)."`
 	Seed         int              `key:"seed" default:"1" range:"[0,9007199254740992]" doc:"Seed of the random numbers of the initial state. The same seed gives the same run."`
 	Amplitude    float64          `key:"amplitude" default:"0.01" range:"[0,1]" doc:"Relative amplitude of the random perturbation of the isotropic inclusion state (and of the random composition)."`
@@ -75,7 +75,7 @@ type InitialSection struct {
 	ModeX        int              `key:"mode_x" default:"1" range:"[-65536,65536]" doc:"Mode number along x of the single Fourier mode (wavevector 2π·mode_x/lx)."`
 	ModeY        int              `key:"mode_y" default:"0" range:"[-65536,65536]" doc:"Mode number along y of the single Fourier mode."`
 	ModeAmp      float64          `key:"mode_amplitude" default:"0.01" range:"[0,10]" doc:"Amplitude of the single Fourier mode."`
-	File         Optional[string] `key:"file" fallback:"none" doc:"HDF5 file written by memix (a snapshot, the index snapshots.h5 or a checkpoint) to take the composition from (initial.lipids = file); a relative path is relative to the working directory of memix run. Its grid must match."`
+	File         Optional[string] `key:"file" fallback:"none" doc:"HDF5 file written by memix (a snapshot, the index snapshots.h5 or a checkpoint) to take the composition (initial.lipids = file) or the inclusion fields (initial.inclusions = file) from; a relative path is relative to the working directory of memix run. Its grid must match."`
 	FileSnapshot int              `key:"file_snapshot" default:"-1" range:"[-1000000,1000000]" doc:"Snapshot of initial.file to use: 0 the first, −1 the last."`
 }
 
@@ -140,13 +140,14 @@ func (s TimeSection) check(at string, root *Config, report func(*FieldError)) {
 }
 
 func (s InitialSection) check(at string, root *Config, report func(*FieldError)) {
-	if s.Lipids == "file" && !s.File.Valid {
+	fromFile := s.Lipids == "file" || s.Inclusions == "file"
+	if fromFile && !s.File.Valid {
 		report(&FieldError{Key: at + ".file", Range: "a path to a memix HDF5 file",
-			Err: fmt.Errorf("%w: initial.lipids = file needs initial.file", ErrMissing)})
+			Err: fmt.Errorf("%w: initial.lipids = file or initial.inclusions = file needs initial.file", ErrMissing)})
 	}
-	if s.Lipids != "file" && s.File.Valid {
-		report(&FieldError{Key: at + ".file", Value: s.File.V, Range: "not set unless initial.lipids = file",
-			Err: fmt.Errorf("%w: initial.file is only read when initial.lipids = file", ErrConflict)})
+	if !fromFile && s.File.Valid {
+		report(&FieldError{Key: at + ".file", Value: s.File.V, Range: "not set unless initial.lipids or initial.inclusions = file",
+			Err: fmt.Errorf("%w: initial.file is only read when initial.lipids = file or initial.inclusions = file", ErrConflict)})
 	}
 	if root.Lipids.Model == "phase" && (s.Lipids == "uniform") {
 		report(&FieldError{Key: at + ".lipids", Value: s.Lipids, Range: "not uniform with lipids.model = phase",

@@ -438,6 +438,16 @@ func (j *job) initialState() error {
 			err = m.InitIsotropic(in.Amplitude, rng)
 		case "aligned":
 			err = m.InitAligned(in.Angle*math.Pi/180, in.Order)
+		case "file":
+			var names []string
+			for _, n := range m.FieldNames() {
+				if n != "phi" {
+					names = append(names, n)
+				}
+			}
+			if err := j.fromFile(in.File.V, in.FileSnapshot, names); err != nil {
+				return &config.FieldError{Key: "initial.file", Value: in.File.V, Err: fmt.Errorf("%w: %w", config.ErrFile, err)}
+			}
 		}
 		if err != nil {
 			return fmt.Errorf("initial.inclusions = %s: %w", in.Inclusions, err)
@@ -466,7 +476,7 @@ func (j *job) initialState() error {
 		case "mode":
 			err = m.SetLipidUniform(in.Mean)
 		case "file":
-			if err := j.lipidsFromFile(in.File.V, in.FileSnapshot); err != nil {
+			if err := j.fromFile(in.File.V, in.FileSnapshot, []string{"phi"}); err != nil {
 				return &config.FieldError{Key: "initial.file", Value: in.File.V, Err: fmt.Errorf("%w: %w", config.ErrFile, err)}
 			}
 		}
@@ -482,10 +492,15 @@ func (j *job) initialState() error {
 	return nil
 }
 
-// lipidsFromFile sets φ from the field phi of a memix HDF5 file: a
-// snapshot of a snapshot file or index, or the exact spectral φ of a
-// checkpoint.
-func (j *job) lipidsFromFile(path string, snap int) error {
+// fromFile sets the evolved fields called names from a memix HDF5 file.
+// From a checkpoint every name must be there, and its exact spectral
+// coefficients are taken. From a snapshot (a snapshot file or the index;
+// snapshot snap, negative counting from the end) the first name is
+// required (phi, or the density c) and each other name is read if the
+// snapshot holds it; for the kinetic model Q11 and Q12 stand in for a
+// missing a2 and b2 (a moment run continued as a kinetic one), and the
+// other harmonics stay zero.
+func (j *job) fromFile(path string, snap int, names []string) error {
 	f, err := outputs.Open(path)
 	if err != nil {
 		return err
@@ -495,15 +510,17 @@ func (j *job) lipidsFromFile(path string, snap int) error {
 		return err
 	}
 	if f.Kind() == outputs.KindCheckpoint {
-		ck, err := outputs.ReadCheckpoint(path, j.red.Grid, outputs.Expect{Spectral: []string{"phi"}})
+		ck, err := outputs.ReadCheckpoint(path, j.red.Grid, outputs.Expect{Spectral: names})
 		if err != nil {
 			return err
 		}
-		data := ck.SpectralByName("phi").Data
-		if !finite(data) {
-			return fmt.Errorf("%s: the field phi of the checkpoint is not finite", path)
+		for _, name := range names {
+			data := ck.SpectralByName(name).Data
+			if !finite(data) {
+				return fmt.Errorf("%s: the field %s of the checkpoint is not finite", path, name)
+			}
+			j.model.SetSpectral(j.model.FieldIndex(name), data)
 		}
-		j.model.SetSpectral(j.iPhi, data)
 		return nil
 	}
 	n := len(f.Snapshots())
@@ -517,11 +534,31 @@ func (j *job) lipidsFromFile(path string, snap int) error {
 	if i < 0 || i >= n {
 		return fmt.Errorf("initial.file_snapshot = %d: %s holds snapshots 0 to %d (−1 is the last)", snap, path, n-1)
 	}
-	data, err := f.ReadField(nil, "phi", i)
-	if err != nil {
-		return err
+	held := map[string]bool{}
+	for _, fi := range f.Snapshots()[i].Fields {
+		held[fi.Name] = true
 	}
-	return j.model.SetFromReal("phi", data)
+	stand := map[string]string{"a2": "Q11", "b2": "Q12"}
+	for k, name := range names {
+		from := name
+		if !held[name] && held[stand[name]] {
+			from = stand[name] // SetFromReal("Q11") sets a2 = 2·Q11
+		}
+		if !held[from] {
+			if k == 0 {
+				return fmt.Errorf("%s: snapshot %d holds no field %s", path, i, name)
+			}
+			continue
+		}
+		data, err := f.ReadField(nil, from, i)
+		if err != nil {
+			return err
+		}
+		if err := j.model.SetFromReal(from, data); err != nil {
+			return err
+		}
+	}
+	return nil
 }
 
 // openOutputs opens run.log, the series and the snapshot writer, fresh or

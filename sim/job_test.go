@@ -372,3 +372,63 @@ func TestVariableViscosityRun(t *testing.T) {
 		}
 	}
 }
+
+// TestInclusionsFromFile: initial.inclusions = file continues the
+// inclusion fields of another run: exactly from its checkpoint (same
+// model), and from a snapshot of a moment run into a kinetic run, where c
+// and Q carry over and the other harmonics start at zero.
+func TestInclusionsFromFile(t *testing.T) {
+	c := parse(t, smallRun, "time.end=2 ms")
+	src := t.TempDir()
+	if _, err := Start(context.Background(), c, src, opts()); err != nil {
+		t.Fatal(err)
+	}
+	ckPath := filepath.Join(src, CheckpointFile)
+	same := parse(t, smallRun, "initial.inclusions=file", "initial.file="+ckPath)
+	dst := t.TempDir()
+	o := opts()
+	o.Set = []string{"time.end=1 us"}
+	if _, err := Start(context.Background(), same, dst, o); err != nil {
+		t.Fatal(err)
+	}
+	fa, _ := outputs.Open(filepath.Join(src, "snapshots.h5"))
+	defer fa.Close()
+	fb, _ := outputs.Open(filepath.Join(dst, "snapshots.h5"))
+	defer fb.Close()
+	last := len(fa.Snapshots()) - 1
+	for _, name := range []string{"c", "Q11", "Q12"} {
+		want, _ := fa.ReadField(nil, name, last)
+		got, _ := fb.ReadField(nil, name, 0)
+		for i := range want {
+			// Both snapshots are inverse transforms of the same coefficients.
+			if got[i] != want[i] {
+				t.Fatalf("%s at %d: %v, source %v", name, i, got[i], want[i])
+			}
+		}
+	}
+	kin := parse(t, smallRun, "inclusions.model=kinetic", "inclusions.harmonics=4", "initial.inclusions=file",
+		"initial.file="+filepath.Join(src, "snapshots.h5"))
+	kdst := t.TempDir()
+	if _, err := Start(context.Background(), kin, kdst, o); err != nil {
+		t.Fatal(err)
+	}
+	fk, _ := outputs.Open(filepath.Join(kdst, "snapshots.h5"))
+	defer fk.Close()
+	// One transform pair of a band-limited field: round-off (spectral tests).
+	tol := 2 * 0x1p-52 * 10 * 8
+	for _, name := range []string{"c", "Q11", "Q12"} {
+		want, _ := fa.ReadField(nil, name, last)
+		got, _ := fk.ReadField(nil, name, 0)
+		for i := range want {
+			if math.Abs(got[i]-want[i]) > tol*(1+math.Abs(want[i])) {
+				t.Fatalf("kinetic %s at %d: %v, source %v", name, i, got[i], want[i])
+			}
+		}
+	}
+	a1, _ := fk.ReadField(nil, "a1", 0)
+	for i := range a1 {
+		if a1[i] != 0 {
+			t.Fatalf("a1 at %d = %v, want 0 (not in a moment snapshot)", i, a1[i])
+		}
+	}
+}
