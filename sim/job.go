@@ -535,8 +535,10 @@ func (j *job) fromFile(path string, snap int, names []string) error {
 		return fmt.Errorf("initial.file_snapshot = %d: %s holds snapshots 0 to %d (−1 is the last)", snap, path, n-1)
 	}
 	held := map[string]bool{}
+	var list []string
 	for _, fi := range f.Snapshots()[i].Fields {
 		held[fi.Name] = true
+		list = append(list, fi.Name)
 	}
 	stand := map[string]string{"a2": "Q11", "b2": "Q12"}
 	for k, name := range names {
@@ -546,7 +548,7 @@ func (j *job) fromFile(path string, snap int, names []string) error {
 		}
 		if !held[from] {
 			if k == 0 {
-				return fmt.Errorf("%s: snapshot %d holds no field %s", path, i, name)
+				return fmt.Errorf("%s: snapshot %d holds no field %q (it holds %s)", path, i, name, strings.Join(list, ", "))
 			}
 			continue
 		}
