@@ -124,10 +124,9 @@ func resolutionErrors(c config.Config) []error {
 // bit for bit the same as an uninterrupted run with the same thread count:
 // the checkpoint holds the exact spectral state and the step controller.
 func Resume(ctx context.Context, dir string, o JobOptions) (*Summary, error) {
-	for _, kv := range os.Environ() {
-		if strings.HasPrefix(kv, "MEMIX_") {
-			name, val, _ := strings.Cut(kv, "=")
-			return nil, &config.FieldError{Key: name, Value: val, Err: fmt.Errorf("%w: resuming %s, this environment variable would change the recorded configuration; unset it (use --set for time.* and output.* keys)", config.ErrConflict, dir)}
+	for _, k := range config.Keys() {
+		if val, ok := os.LookupEnv(k.Env); ok {
+			return nil, &config.FieldError{Key: k.Env, Value: val, Err: fmt.Errorf("%w: resuming %s, this environment variable would change the recorded configuration; unset it (use --set for time.* and output.* keys)", config.ErrConflict, dir)}
 		}
 	}
 	if st, err := os.Stat(dir); err != nil || !st.IsDir() {
