@@ -4,9 +4,9 @@ import (
 	"bufio"
 	"bytes"
 	"errors"
+	"github.com/memix-sim/memix/internal/refgen"
 	"math"
 	"os"
-	"os/exec"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -99,16 +99,8 @@ func TestClosedFormsAgainstSciPy(t *testing.T) {
 // TestMobilityTableFresh re-runs testdata/mobility_gen.py and fails if the
 // committed table differs (same rows, values within 4 ulp).
 func TestMobilityTableFresh(t *testing.T) {
-	if testing.Short() {
-		t.Skip("runs Python")
-	}
-	if err := exec.Command("/usr/bin/python3", "-c", "import scipy.special").Run(); err != nil {
-		t.Skipf("/usr/bin/python3 with SciPy not available: %v", err)
-	}
 	out := filepath.Join(t.TempDir(), "mobility_ref.csv")
-	if b, err := exec.Command("/usr/bin/python3", filepath.Join("testdata", "mobility_gen.py"), out).CombinedOutput(); err != nil {
-		t.Fatalf("mobility_gen.py: %v\n%s", err, b)
-	}
+	refgen.Run(t, filepath.Join("testdata", "mobility_gen.py"), out)
 	committed := readMobilityRef(t, filepath.Join("testdata", "mobility_ref.csv"))
 	fresh := readMobilityRef(t, out)
 	if len(committed) != len(fresh) {

@@ -5,9 +5,9 @@ import (
 	"encoding/csv"
 	"errors"
 	"fmt"
+	"github.com/memix-sim/memix/internal/refgen"
 	"math"
 	"os"
-	"os/exec"
 	"strconv"
 	"testing"
 
@@ -102,17 +102,8 @@ func TestResponseAgainstReferences(t *testing.T) {
 // the two error estimates (a stale table). It skips when /usr/bin/python3
 // with SciPy is missing.
 func TestResponseTableIsCurrent(t *testing.T) {
-	if testing.Short() {
-		t.Skip("runs the SciPy generator (~5 s)")
-	}
-	py := "/usr/bin/python3"
-	if err := exec.Command(py, "-c", "import scipy, numpy").Run(); err != nil {
-		t.Skipf("%s with scipy and numpy not available (%v): the committed table is not re-checked", py, err)
-	}
-	out, err := exec.Command(py, "testdata/gen_response.py").Output()
-	if err != nil {
-		t.Fatalf("generator failed: %v", err)
-	}
+	py := refgen.Python
+	out := refgen.Run(t, "testdata/gen_response.py")
 	data, err := os.ReadFile("testdata/response.csv")
 	if err != nil {
 		t.Fatal(err)

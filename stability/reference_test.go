@@ -1,11 +1,10 @@
 package stability_test
 
 import (
-	"bytes"
 	"encoding/json"
+	"github.com/memix-sim/memix/internal/refgen"
 	"math"
 	"os"
-	"os/exec"
 	"testing"
 
 	"github.com/memix-sim/memix/flow"
@@ -21,7 +20,7 @@ import (
 const (
 	refScript = "testdata/gen_reference.py"
 	refFile   = "testdata/reference.json"
-	python    = "/usr/bin/python3"
+	python    = refgen.Python
 )
 
 type refSide struct {
@@ -109,20 +108,7 @@ func (c refCase) params(t *testing.T) stability.Active {
 // are compared to 10⁻¹² relative (not bytes), which absorbs a different
 // LAPACK build's last bits but not any change of inputs or method.
 func TestReferenceIsFresh(t *testing.T) {
-	if _, err := os.Stat(python); err != nil {
-		t.Skipf("%s not found: cannot re-run %s", python, refScript)
-	}
-	if err := exec.Command(python, "-c", "import scipy, numpy").Run(); err != nil {
-		t.Skipf("SciPy/NumPy not importable by %s: cannot re-run %s", python, refScript)
-	}
-	var out bytes.Buffer
-	cmd := exec.Command(python, refScript)
-	cmd.Stdout = &out
-	cmd.Stderr = os.Stderr
-	if err := cmd.Run(); err != nil {
-		t.Fatalf("%s: %v", refScript, err)
-	}
-	fresh := parseReference(t, out.Bytes())
+	fresh := parseReference(t, refgen.Run(t, refScript))
 	var got, want []float64
 	flatten := func(r reference) (v []float64) {
 		for _, c := range r.Cases {
