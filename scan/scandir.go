@@ -6,6 +6,8 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"github.com/memix-sim/memix/outputs"
+	"io"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -265,30 +267,12 @@ func Open(dir string) (*Scan, error) {
 	return sc, nil
 }
 
-// writeFileAtomic writes data to a temporary file beside path and renames
-// it, so a reader never sees a half-written file.
+// writeFileAtomic writes data through the project's atomic writer
+// (outputs.WriteFileAtomic: temporary file, fsync, rename, directory
+// fsync), so a reader never sees a half-written file.
 func writeFileAtomic(path string, data []byte) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".tmp*")
-	if err != nil {
+	return outputs.WriteFileAtomic(path, func(w io.Writer) error {
+		_, err := w.Write(data)
 		return err
-	}
-	tmp := f.Name()
-	if _, err := f.Write(data); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return err
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Chmod(tmp, 0o644); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Rename(tmp, path); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	return nil
+	})
 }
